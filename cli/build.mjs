@@ -1,0 +1,30 @@
+// Bundle the CLI (and the server entry) with esbuild so a cold start reads one small module
+// graph; heavy optional parts (progress spinner) stay in lazily loaded chunks.
+import { build } from 'esbuild';
+import { readFileSync } from 'node:fs';
+
+const pkg = JSON.parse(readFileSync(new URL('../package.json', import.meta.url), 'utf8'));
+const common = {
+  bundle: true,
+  platform: 'node',
+  target: 'node20',
+  format: 'esm',
+  sourcemap: true,
+  logLevel: 'warning',
+  define: { __SIGHTLINE_VERSION__: JSON.stringify(pkg.version) },
+  banner: {
+    js: "import { createRequire as __createRequire } from 'node:module'; const require = __createRequire(import.meta.url);",
+  },
+};
+await build({
+  ...common,
+  entryPoints: { main: 'cli/main.ts' },
+  outdir: 'dist/cli',
+  splitting: true,
+  chunkNames: 'chunks/[name]-[hash]',
+});
+await build({
+  ...common,
+  entryPoints: { main: 'server/main.ts' },
+  outdir: 'dist/server',
+});

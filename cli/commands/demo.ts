@@ -1,0 +1,22 @@
+import { Command } from 'commander';
+import { numberOption } from '../common.js';
+import type { DemoOptions } from '../run/demo.js';
+
+export function demoCommand(): Command {
+  const generate = new Command('generate')
+    .description("write the demo observatory's six invented pulsars from the seeded simulator")
+    .requiredOption('--out <dir>', 'folder to write')
+    .option(
+      '--seed <n>',
+      'simulator seed',
+      numberOption('--seed', (v) =>
+        Number.isInteger(v) && v >= 0 ? undefined : 'must be a whole number ≥ 0',
+      ),
+      1,
+    )
+    .option('--force', 'replace the folder if it is not empty')
+    .option('--quiet', 'print nothing')
+    .addHelpText('after', '\nExample:\n  sightline demo generate --out demo-data --seed 1')
+    .action(async (o: DemoOptions) => (await import('../run/demo.js')).runDemo(o));
+  return new Command('demo').description('the fictional demo data set').addCommand(generate);
+}

@@ -1,0 +1,94 @@
+import { Command, Option } from 'commander';
+import { nonNegative, numberOption, positive, withCommon } from '../common.js';
+import type { FitCliOptions, SeriesCliOptions } from '../run/dm.js';
+
+function addFitOptions(cmd: Command): Command {
+  return cmd
+    .option(
+      '--gap <days>',
+      'a new visit starts after a gap longer than DAYS (default 0.5)',
+      numberOption('--gap', positive),
+    )
+    .option(
+      '--window <days>',
+      'fixed DM windows of DAYS instead of gap-separated visits',
+      numberOption('--window', positive),
+    )
+    .option(
+      '--window-start <mjd>',
+      'MJD where the first window starts (default 0, so windows repeat across files)',
+      numberOption('--window-start', nonNegative),
+    )
+    .option(
+      '--period-s <seconds>',
+      'pulse period: arrival-time offsets are taken modulo it (a period_s column takes precedence)',
+      numberOption('--period-s', positive),
+    )
+    .option(
+      '--clip <sigma>',
+      'iteratively drop the worst arrival time beyond SIGMA (robustly scaled)',
+      numberOption('--clip', positive),
+    )
+    .option(
+      '--evolution <n>',
+      'add a polynomial of degree N in log10(ν/1 GHz) for profile evolution',
+      numberOption('--evolution', (v) =>
+        Number.isInteger(v) && v >= 0 && v <= 5 ? undefined : 'must be an integer 0–5',
+      ),
+      0,
+    );
+}
+
+export function dmCommand(): Command {
+  const dm = new Command('dm').description('DM per visit, DM series');
+  const fit = addFitOptions(
+    withCommon(
+      new Command('fit')
+        .argument('<file>', 'arrival-time table (CSV, JSON array or NDJSON)')
+        .description(
+          'fit DM per visit by weighted least squares (residuals give a DM offset, arrival times an absolute DM)',
+        )
+        .option('--strict', 'exit 1 when any visit is unconstrained')
+        .addHelpText(
+          'after',
+          '\nExamples:\n  sightline dm fit toas.csv\n  sightline dm fit toas.csv --window 14 --clip 4 --json --out fit.json\n  sightline dm fit arrivals.csv --period-s 0.00405 --evolution 1',
+        ),
+    ),
+  ).action(async (file: string, o: FitCliOptions) =>
+    (await import('../run/dm.js')).runFitCommand(file, o),
+  );
+  const series = addFitOptions(
+    withCommon(
+      new Command('series')
+        .argument('<file>', 'arrival-time table, or a dm-fit JSON result')
+        .description(
+          'DM series over visits or windows, optionally smoothed and with the solar wind removed',
+        )
+        .addOption(
+          new Option('--smooth <method>', 'smoothing of the series')
+            .choices(['none', 'gp'])
+            .default('none'),
+        )
+        .option(
+          '--solar <n0>',
+          'subtract a spherical solar wind with N0 electrons cm⁻³ at 1 AU',
+          numberOption('--solar', nonNegative),
+        )
+        .option('--ra <deg>', 'pulsar right ascension for --solar, degrees', numberOption('--ra'))
+        .option('--dec <deg>', 'pulsar declination for --solar, degrees', numberOption('--dec'))
+        .option('--positions <file>', 'JSON list of { source, ra_deg, dec_deg } for --solar')
+        .option(
+          '--ref-dm <dm>',
+          'reference DM the corrections are taken against (default: weighted mean, or 0 for offsets)',
+          numberOption('--ref-dm'),
+        )
+        .addHelpText(
+          'after',
+          '\nExamples:\n  sightline dm series toas.csv --smooth gp --json --out series.json\n  sightline dm series fit.json --solar 8 --ra 61.2 --dec -12.4',
+        ),
+    ),
+  ).action(async (file: string, o: SeriesCliOptions) =>
+    (await import('../run/dm.js')).runSeriesCommand(file, o),
+  );
+  return dm.addCommand(fit).addCommand(series);
+}

@@ -1,0 +1,181 @@
+import { createHash } from 'node:crypto';
+import { createReadStream, openSync, readSync, closeSync, statSync, readFileSync } from 'node:fs';
+import { createInterface } from 'node:readline';
+import { parse as parseCsv, CsvError } from 'csv-parse';
+import { InputError } from '../../shared/formats/errors.js';
+import {
+  checkHeader,
+  detectLayout,
+  parseToaRecord,
+  quoteMjdNumbers,
+  type ToaHeader,
+  type ToaLayout,
+  type ToaRow,
+} from '../../shared/formats/toas.js';
+import { ToaTable } from '../../shared/formats/toa-table.js';
+
+export type RawRecord = string[] | Record<string, unknown>;
+/** Called per row; may return a promise (the reader waits, so writers get back-pressure). */
+export type RowHandler = (
+  row: ToaRow,
+  raw: RawRecord,
+  header: ToaHeader,
+  mjdWasNumber: boolean,
+) => void | Promise<void>;
+
+export interface ReadSummary {
+  path: string;
+  layout: ToaLayout;
+  header: ToaHeader;
+  rows: number;
+  sha256: string;
+  /** JSON layouts: the file wrote mjd as bare numbers */
+  mjdWasNumber: boolean;
+}
+
+function firstChars(path: string): string {
+  const fd = openSync(path, 'r');
+  try {
+    const buf = Buffer.alloc(256);
+    const n = readSync(fd, buf, 0, 256, 0);
+    return buf.subarray(0, n).toString('utf8');
+  } finally {
+    closeSync(fd);
+  }
+}
+
+/**
+ * Stream an arrival-time table, validating every row; `onRow` gets the parsed row and the raw
+ * record (CSV: fields in header order; JSON: the object). Memory stays bounded for CSV and NDJSON.
+ */
+export async function streamToas(path: string, onRow: RowHandler): Promise<ReadSummary> {
+  const size = statSync(path).size;
+  const start = firstChars(path);
+  if (size === 0 || start.trim() === '') throw new InputError('the file is empty', { file: path });
+  const layout = detectLayout(path, start);
+  try {
+    if (layout === 'json') return { ...(await readJsonArray(path, onRow)), path, layout };
+    const hash = createHash('sha256');
+    const stream = createReadStream(path);
+    stream.on('data', (chunk) => hash.update(chunk));
+    const r = layout === 'csv' ? await readCsv(stream, onRow) : await readNdjson(stream, onRow);
+    return { ...r, path, layout, sha256: hash.digest('hex') };
+  } catch (e) {
+    if (e instanceof InputError) throw e.inFile(path);
+    throw e;
+  }
+}
+
+async function readCsv(stream: NodeJS.ReadableStream, onRow: RowHandler) {
+  const parser = stream.pipe(
+    parseCsv({ bom: true, skip_empty_lines: true, info: true, trim: true }),
+  );
+  let header: ToaHeader | undefined;
+  let rows = 0;
+  try {
+    for await (const { record, info } of parser as AsyncIterable<{
+      record: string[];
+      info: { lines: number };
+    }>) {
+      if (!header) {
+        header = checkHeader(record);
+        continue;
+      }
+      rows++;
+      const rec: Record<string, string> = {};
+      for (let c = 0; c < header.columns.length; c++) rec[header.columns[c]] = record[c];
+      await onRow(parseToaRecord(rec, header, rows, info.lines), record, header, false);
+    }
+  } catch (e) {
+    if (e instanceof CsvError) {
+      const err = e as CsvError & { lines?: number; record?: unknown[] };
+      const reason =
+        err.code === 'CSV_RECORD_INCONSISTENT_FIELDS_LENGTH'
+          ? `${err.record?.length ?? '?'} fields where the header has ${header?.columns.length ?? '?'}`
+          : err.message.replace(/^Invalid Record Length: |^Invalid Opening Quote: /, '');
+      throw new InputError(reason, { row: rows + 1, line: err.lines });
+    }
+    throw e;
+  }
+  if (!header) throw new InputError('the file has no header line');
+  if (rows === 0) throw new InputError('the file has a header but no data rows');
+  return { header, rows, mjdWasNumber: false };
+}
+
+function checkObject(v: unknown, row: number, line?: number): Record<string, unknown> {
+  if (v === null || typeof v !== 'object' || Array.isArray(v)) {
+    throw new InputError('each entry must be an object of column names to values', { row, line });
+  }
+  return v as Record<string, unknown>;
+}
+
+async function readNdjson(stream: NodeJS.ReadableStream, onRow: RowHandler) {
+  const lines = createInterface({ input: stream, crlfDelay: Infinity });
+  let header: ToaHeader | undefined;
+  let rows = 0;
+  let lineNo = 0;
+  let mjdWasNumber = false;
+  for await (const text of lines) {
+    lineNo++;
+    if (text.trim() === '') continue;
+    rows++;
+    const quoted = quoteMjdNumbers(text);
+    if (quoted !== text) mjdWasNumber = true;
+    let value: unknown;
+    try {
+      value = JSON.parse(quoted);
+    } catch (e) {
+      throw new InputError(`not valid JSON (${(e as Error).message})`, { row: rows, line: lineNo });
+    }
+    const obj = checkObject(value, rows, lineNo);
+    header ??= checkHeader(Object.keys(obj));
+    await onRow(
+      parseToaRecord(obj as Record<string, string>, header, rows, lineNo),
+      obj,
+      header,
+      quoted !== text,
+    );
+  }
+  if (!header) throw new InputError('the file has no data rows');
+  return { header, rows, mjdWasNumber };
+}
+
+async function readJsonArray(path: string, onRow: RowHandler) {
+  const buf = readFileSync(path);
+  const sha256 = createHash('sha256').update(buf).digest('hex');
+  const text = buf.toString('utf8').replace(/^\uFEFF/, '');
+  const quoted = quoteMjdNumbers(text);
+  let value: unknown;
+  try {
+    value = JSON.parse(quoted);
+  } catch (e) {
+    throw new InputError(`not valid JSON (${(e as Error).message})`);
+  }
+  if (!Array.isArray(value))
+    throw new InputError('a JSON arrival-time file must hold an array of objects');
+  if (value.length === 0) throw new InputError('the array holds no rows');
+  const header = checkHeader(Object.keys(checkObject(value[0], 1)));
+  const mjdWasNumber = quoted !== text;
+  for (let i = 0; i < value.length; i++) {
+    const obj = checkObject(value[i], i + 1);
+    await onRow(
+      parseToaRecord(obj as Record<string, string>, header, i + 1),
+      obj,
+      header,
+      mjdWasNumber,
+    );
+  }
+  return { header, rows: value.length, sha256, mjdWasNumber };
+}
+
+/** Read a whole table into columns (dm fit, dm series). */
+export async function readToaTable(
+  path: string,
+): Promise<{ table: ToaTable; summary: ReadSummary }> {
+  let table: ToaTable | undefined;
+  const summary = await streamToas(path, (row, _raw, header) => {
+    table ??= new ToaTable(header, 4096);
+    table.push(row);
+  });
+  return { table: table!, summary };
+}

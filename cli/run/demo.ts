@@ -1,0 +1,70 @@
+import { existsSync, mkdirSync, readdirSync, renameSync, rmSync, writeFileSync } from 'node:fs';
+import { dirname, join, resolve } from 'node:path';
+import { stringify } from 'csv-stringify/sync';
+import { simulateDemo } from '../../shared/sim/demo.js';
+import { DEMO_GROUP, DEMO_OBSERVATORY, RECEIVERS } from '../../shared/sim/scenario.js';
+import { SOFTWARE, withProgress, type CommonOptions } from '../common.js';
+import { usageError } from '../errors.js';
+
+export interface DemoOptions extends CommonOptions {
+  out: string;
+  seed: number;
+  force?: boolean;
+}
+
+/**
+ * Write the fictional demo data set (demo-scenario handout) from the seeded simulator: the
+ * catalogue, one residual table per pulsar and the injected truth. Written into a temporary
+ * folder and renamed into place, so a failure leaves nothing half-made.
+ */
+export function writeDemo(dir: string, seed: number, force = false): string[] {
+  const target = resolve(dir);
+  if (existsSync(target) && readdirSync(target).length > 0) {
+    if (!force) throw usageError(`${dir} exists and is not empty (pass --force to replace it)`);
+  }
+  const data = simulateDemo(seed);
+  const temp = join(dirname(target), `.${process.pid}.demo.tmp`);
+  rmSync(temp, { recursive: true, force: true });
+  mkdirSync(join(temp, 'toas'), { recursive: true });
+  mkdirSync(join(temp, 'truth'), { recursive: true });
+  const files: string[] = [];
+  const put = (rel: string, text: string) => {
+    writeFileSync(join(temp, rel), text);
+    files.push(join(dir, rel));
+  };
+  put(
+    'pulsars.json',
+    JSON.stringify(
+      {
+        observatory: DEMO_OBSERVATORY,
+        group: DEMO_GROUP,
+        note: 'Fictional demo data: every name and number is invented and simulated.',
+        generated_by: SOFTWARE,
+        seed,
+        solar_n0_cm3: data.solarN0,
+        receivers: RECEIVERS,
+        pulsars: data.pulsars,
+      },
+      null,
+      2,
+    ) + '\n',
+  );
+  const columns = ['source', 'mjd', 'freq_mhz', 'err_us', 'residual_us', 'receiver'] as const;
+  data.sets.forEach((set, i) => {
+    const name = data.pulsars[i].source;
+    put(
+      `toas/${name}.csv`,
+      stringify([columns as unknown as string[], ...set.toas.map((t) => columns.map((c) => t[c]))]),
+    );
+    put(`truth/${name}.json`, JSON.stringify(set.truth, null, 1) + '\n');
+  });
+  rmSync(target, { recursive: true, force: true });
+  mkdirSync(dirname(target), { recursive: true });
+  renameSync(temp, target);
+  return files;
+}
+
+export async function runDemo(o: DemoOptions): Promise<void> {
+  const files = await withProgress(o, 'simulating', async () => writeDemo(o.out, o.seed, o.force));
+  if (!o.quiet) process.stdout.write(files.join('\n') + '\n');
+}

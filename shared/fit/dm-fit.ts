@@ -1,0 +1,290 @@
+import type { DispersionConstant } from '../physics/constants.js';
+import type { ToaTable } from '../formats/toa-table.js';
+import { InputError } from '../formats/errors.js';
+import { weightedLeastSquares, SingularDesignError, type WlsFit } from './wls.js';
+import { groupVisits, orderBySourceAndTime, type VisitGrouping } from './visits.js';
+import { addSeconds, diffSeconds, formatMjd } from '../time/mjd.js';
+import { chi2Sf } from '../stats/gamma.js';
+import { robustSigma } from '../stats/summary.js';
+
+export interface DmFitOptions {
+  constant: DispersionConstant;
+  grouping: VisitGrouping;
+  /** pulse period for folding arrival-time offsets (a period_s column takes precedence) */
+  periodS?: number;
+  /** iterative outlier clipping threshold in σ; undefined = no clipping */
+  clipSigma?: number;
+  /** degree of the profile-evolution polynomial in log10(ν / 1 GHz); 0 = none */
+  evolution: number;
+}
+
+export interface VisitFit {
+  source: string;
+  mjd: number;
+  mjd_first: number;
+  mjd_last: number;
+  n_toas: number;
+  n_freqs: number;
+  freq_min_mhz: number;
+  freq_max_mhz: number;
+  status: 'fitted' | 'unconstrained';
+  dm: number | null;
+  dm_err: number | null;
+  dm_err_scaled: number | null;
+  dm_kind: 'absolute' | 'offset';
+  offset_us: number | null;
+  receiver_offsets_us?: Record<string, number>;
+  evolution_us?: number[];
+  t_inf_mjd?: string;
+  chi2: number | null;
+  dof: number | null;
+  reduced_chi2: number | null;
+  chi2_p_value: number | null;
+  flagged_rows: number[];
+  warnings: string[];
+  model: string;
+}
+
+/** Ratio ν_max/ν_min below which the DM lever arm is weak (common practice). */
+export const WEAK_LEVER_ARM = 1.2;
+/** Two-sided probability below which a χ² is called improbable. */
+export const CHI2_ALARM_P = 1e-3;
+
+/** Fit every visit of every source in the table. */
+export function fitDmVisits(table: ToaTable, opts: DmFitOptions): VisitFit[] {
+  const order = orderBySourceAndTime(table);
+  return groupVisits(table, order, opts.grouping).map(([b, e]) =>
+    fitVisit(table, order.subarray(b, e), opts),
+  );
+}
+
+function describeModel(receivers: string[], evolution: number, residual: boolean): string {
+  const offset = receivers.length > 1 ? `offsets per receiver (${receivers.join(', ')})` : 'offset';
+  const evo = evolution > 0 ? ` + profile evolution (degree ${evolution} in log10 ν/GHz)` : '';
+  return `${residual ? 'residual' : 'arrival time'} = ${offset} + K·DM/ν²${evo}`;
+}
+
+/** Fit one visit: rows are indices into the table. */
+export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOptions): VisitFit {
+  const residualMode = table.header.hasResidual;
+  const n = rows.length;
+  const k = opts.constant.value;
+  let fmin = Infinity;
+  let fmax = -Infinity;
+  let mjdSum = 0;
+  let ref = rows[0];
+  for (let j = 0; j < n; j++) {
+    const i = rows[j];
+    const f = table.freqMhz(i);
+    if (f < fmin) fmin = f;
+    if (f > fmax) {
+      fmax = f;
+      ref = i;
+    }
+    mjdSum += table.mjd(i);
+  }
+  const source = table.sources[table.sourceId(rows[0])];
+  const mjd = mjdSum / n;
+  const freqsOf = (active: Uint8Array) => {
+    const s = new Set<number>();
+    for (let j = 0; j < n; j++) if (active[j]) s.add(table.freqMhz(rows[j]));
+    return s.size;
+  };
+  const allActive = new Uint8Array(n).fill(1);
+  const nFreqs = freqsOf(allActive);
+  const hasReceivers = table.header.hasReceiver;
+  const receiverNames = (active: Uint8Array) => {
+    if (!hasReceivers) return [''];
+    const ids = new Set<number>();
+    for (let j = 0; j < n; j++) if (active[j]) ids.add(table.receiverId(rows[j]));
+    return [...ids].sort((a, b) => a - b).map((id) => table.receivers[id]);
+  };
+  const base: VisitFit = {
+    source,
+    mjd: round(mjd, 1e-7),
+    mjd_first: round(table.mjd(rows[0]), 1e-7, Math.floor),
+    mjd_last: round(table.mjd(rows[n - 1]), 1e-7, Math.ceil),
+    n_toas: n,
+    n_freqs: nFreqs,
+    freq_min_mhz: fmin,
+    freq_max_mhz: fmax,
+    status: 'unconstrained',
+    dm: null,
+    dm_err: null,
+    dm_err_scaled: null,
+    dm_kind: residualMode ? 'offset' : 'absolute',
+    offset_us: null,
+    chi2: null,
+    dof: null,
+    reduced_chi2: null,
+    chi2_p_value: null,
+    flagged_rows: [],
+    warnings: [],
+    model: describeModel(receiverNames(allActive).filter(Boolean), opts.evolution, residualMode),
+  };
+  if (nFreqs < 2) {
+    base.warnings.push(
+      'fewer than two distinct frequencies: DM is not constrained, visit not fitted',
+    );
+    return base;
+  }
+
+  // Data: residuals as given, or arrival-time offsets from the highest-frequency arrival.
+  const y = new Float64Array(n);
+  const sigma = new Float64Array(n);
+  let periodUsed: number | undefined;
+  for (let j = 0; j < n; j++) {
+    const i = rows[j];
+    sigma[j] = table.errUs(i);
+    if (residualMode) {
+      y[j] = table.residualUs(i);
+    } else {
+      let o = diffSeconds(table.epoch(i), table.epoch(ref));
+      const rowPeriod = table.periodS(i);
+      const p = Number.isFinite(rowPeriod) ? rowPeriod : opts.periodS;
+      if (p !== undefined) {
+        // fold into [−P/4, 3P/4): dispersive delays relative to the top frequency are ≥ 0
+        o -= p * Math.floor((o + p / 4) / p);
+        periodUsed = p;
+      }
+      y[j] = o * 1e6;
+    }
+  }
+
+  const active = new Uint8Array(n).fill(1);
+  let fit: WlsFit | undefined;
+  let receivers: string[];
+  let p: number;
+  for (;;) {
+    const activeIdx: number[] = [];
+    for (let j = 0; j < n; j++) if (active[j]) activeIdx.push(j);
+    receivers = receiverNames(active);
+    const nOff = receivers.length;
+    p = nOff + 1 + opts.evolution;
+    const m = activeIdx.length;
+    const design = new Float64Array(m * p);
+    const ya = new Float64Array(m);
+    const sa = new Float64Array(m);
+    for (let r = 0; r < m; r++) {
+      const j = activeIdx[r];
+      const i = rows[j];
+      const f = table.freqMhz(i);
+      const off = hasReceivers ? receivers.indexOf(table.receivers[table.receiverId(i)]) : 0;
+      design[r * p + off] = 1;
+      design[r * p + nOff] = (k * 1e6) / (f * f);
+      const l = Math.log10(f / 1000);
+      let lp = 1;
+      for (let e = 1; e <= opts.evolution; e++) {
+        lp *= l;
+        design[r * p + nOff + e] = lp;
+      }
+      ya[r] = y[j];
+      sa[r] = sigma[j];
+    }
+    try {
+      fit = weightedLeastSquares(design, ya, sa, m, p);
+    } catch (e) {
+      if (!(e instanceof SingularDesignError)) throw e;
+      base.warnings.push(
+        m < p
+          ? `${m} arrival times cannot fix ${p} parameters: visit not fitted`
+          : 'DM cannot be separated from the receiver offsets or evolution terms (does each receiver cover only one frequency?): visit not fitted',
+      );
+      base.flagged_rows = flaggedRows(table, rows, active);
+      return base;
+    }
+    if (opts.clipSigma === undefined || fit.dof < 2) break;
+    const z = new Float64Array(m);
+    let worst = 0;
+    for (let r = 0; r < m; r++) {
+      z[r] = fit.residuals[r] / sa[r];
+      if (Math.abs(z[r]) > Math.abs(z[worst])) worst = r;
+    }
+    // scale by a robust spread so globally misjudged errors do not clip everything
+    const spread = Math.max(1, robustSigma(z));
+    if (Math.abs(z[worst]) / spread <= opts.clipSigma) break;
+    active[activeIdx[worst]] = 0;
+    if (freqsOf(active) < 2) {
+      active[activeIdx[worst]] = 1;
+      break;
+    }
+  }
+  if (!fit) return base;
+  const nOff = receivers.length;
+  const dm = fit.params[nOff];
+  const dmErr = Math.sqrt(fit.cov[nOff * p + nOff]);
+  const red = fit.dof > 0 ? fit.chi2 / fit.dof : null;
+  const out: VisitFit = {
+    ...base,
+    status: 'fitted',
+    dm,
+    dm_err: dmErr,
+    dm_err_scaled: red !== null && red > 1 ? dmErr * Math.sqrt(red) : dmErr,
+    offset_us: fit.params[0],
+    chi2: fit.chi2,
+    dof: fit.dof,
+    reduced_chi2: red,
+    chi2_p_value: fit.dof > 0 ? chi2Sf(fit.chi2, fit.dof) : null,
+    flagged_rows: flaggedRows(table, rows, active),
+    model: describeModel(receivers.filter(Boolean), opts.evolution, residualMode),
+  };
+  if (hasReceivers && nOff > 1) {
+    out.receiver_offsets_us = Object.fromEntries(receivers.map((r, i) => [r, fit.params[i]]));
+  }
+  if (opts.evolution > 0) out.evolution_us = Array.from(fit.params.subarray(nOff + 1));
+  if (!residualMode) {
+    out.t_inf_mjd = formatMjd(
+      addSeconds(table.epoch(ref), fit.params[0] * 1e-6),
+      Math.max(12, table.mjdDecimals),
+    );
+  }
+  if (fmax / fmin < WEAK_LEVER_ARM) {
+    out.warnings.push(
+      `weak lever arm: ν_max/ν_min = ${(fmax / fmin).toFixed(3)} < ${WEAK_LEVER_ARM}; DM is poorly constrained`,
+    );
+  }
+  if (fit.dof === 0) {
+    out.warnings.push('no degrees of freedom left: χ² and the fit quality cannot be judged');
+  } else if (out.chi2_p_value !== null && red !== null) {
+    if (out.chi2_p_value < CHI2_ALARM_P) {
+      out.warnings.push(
+        `reduced χ² = ${red.toFixed(2)} is improbably large for ${fit.dof} dof (p = ${out.chi2_p_value.toExponential(1)}): errors underestimated or model incomplete; scaled error reported`,
+      );
+    } else if (1 - out.chi2_p_value < CHI2_ALARM_P) {
+      out.warnings.push(
+        `reduced χ² = ${red.toFixed(2)} is improbably small for ${fit.dof} dof: errors may be overestimated`,
+      );
+    }
+  }
+  if (periodUsed !== undefined && out.chi2_p_value !== null && out.chi2_p_value < CHI2_ALARM_P) {
+    out.warnings.push(
+      'offsets were folded modulo the period: a poor fit may mean the band sweep exceeds half the period (aliased DM)',
+    );
+  }
+  if (out.flagged_rows.length) {
+    out.warnings.push(
+      `${out.flagged_rows.length} arrival time(s) clipped beyond ${opts.clipSigma}σ`,
+    );
+  }
+  if (periodUsed !== undefined) {
+    const sweepS = k * Math.abs(dm) * (1 / (fmin * fmin) - 1 / (fmax * fmax));
+    if (sweepS > periodUsed / 2) {
+      throw new InputError(
+        `${source} visit at MJD ${mjd.toFixed(4)}: the dispersive sweep across ${fmin}–${fmax} MHz (${(sweepS * 1e3).toFixed(3)} ms at DM ${dm.toFixed(3)}) exceeds half the period (${((periodUsed / 2) * 1e3).toFixed(3)} ms), so offsets modulo the period are ambiguous; fit timing residuals (residual_us) instead`,
+        { row: table.row(ref), column: 'mjd' },
+      );
+    }
+  }
+  return out;
+}
+
+function flaggedRows(table: ToaTable, rows: ArrayLike<number>, active: Uint8Array): number[] {
+  const out: number[] = [];
+  for (let j = 0; j < rows.length; j++) if (!active[j]) out.push(table.row(rows[j]));
+  return out.sort((a, b) => a - b);
+}
+
+/** Round to a decimal step such as 1e-7 without binary noise in the printed value. */
+function round(v: number, step: number, how: (x: number) => number = Math.round): number {
+  return Number((how(v / step) * step).toFixed(Math.round(-Math.log10(step))));
+}

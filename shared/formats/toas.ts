@@ -1,0 +1,154 @@
+import { InputError } from './errors.js';
+import { parseDecimal } from './numbers.js';
+import { EpochSyntaxError, parseMjd, type Epoch } from '../time/mjd.js';
+
+/**
+ * Arrival-time tables (interfaces.md "Arrival-time table"): CSV with header, JSON array or
+ * NDJSON of objects with the same keys. Column order is free; unknown columns are kept.
+ */
+export const REQUIRED_COLUMNS = ['source', 'mjd', 'freq_mhz', 'err_us'] as const;
+export const OPTIONAL_COLUMNS = ['residual_us', 'receiver', 'period_s'] as const;
+
+export type ToaLayout = 'csv' | 'json' | 'ndjson';
+
+/** One validated row. `raw` holds the fields exactly as read, for writing back. */
+export interface ToaRow {
+  row: number;
+  source: string;
+  mjdText: string;
+  epoch: Epoch;
+  freqMhz: number;
+  errUs: number;
+  residualUs?: number;
+  receiver?: string;
+  periodS?: number;
+}
+
+export interface ToaHeader {
+  columns: string[];
+  hasResidual: boolean;
+  hasReceiver: boolean;
+  hasPeriod: boolean;
+}
+
+/** Check a header: required columns present, no duplicates, and a hint for a wrong delimiter. */
+export function checkHeader(columns: string[]): ToaHeader {
+  const seen = new Set<string>();
+  columns.forEach((c, i) => {
+    if (seen.has(c)) {
+      throw new InputError(
+        `the header names column "${c}" twice (columns ${columns.indexOf(c) + 1} and ${i + 1})`,
+        {
+          line: 1,
+          column: c,
+        },
+      );
+    }
+    seen.add(c);
+  });
+  if (columns.length === 1) {
+    const only = columns[0];
+    for (const [sep, name] of [
+      [';', 'semicolon'],
+      ['\t', 'tab'],
+      ['|', 'pipe'],
+    ] as const) {
+      if (only.includes(sep)) {
+        throw new InputError(
+          `the header is one field containing ${name}s ("${only.slice(0, 60)}"): arrival-time CSV files must be comma-separated`,
+          { line: 1 },
+        );
+      }
+    }
+  }
+  const missing = REQUIRED_COLUMNS.filter((c) => !seen.has(c));
+  if (missing.length) {
+    throw new InputError(
+      `missing required column${missing.length > 1 ? 's' : ''} ${missing.map((m) => `"${m}"`).join(', ')} (required: ${REQUIRED_COLUMNS.join(', ')})`,
+      { line: 1, column: missing[0] },
+    );
+  }
+  return {
+    columns,
+    hasResidual: seen.has('residual_us'),
+    hasReceiver: seen.has('receiver'),
+    hasPeriod: seen.has('period_s'),
+  };
+}
+
+type Field = string | number | boolean | null | undefined;
+
+function text(v: Field): string {
+  if (v === null || v === undefined) return '';
+  return typeof v === 'string' ? v : String(v);
+}
+
+/**
+ * Validate one record (already keyed by column). `row` counts data rows from 1; `line` is the
+ * line of the file when known. Throws InputError naming row, line and column.
+ */
+export function parseToaRecord(
+  rec: Record<string, Field>,
+  header: ToaHeader,
+  row: number,
+  line?: number,
+): ToaRow {
+  const at = (column: string) => ({ row, line, column });
+  const required = (column: string): string => {
+    const v = text(rec[column]).trim();
+    if (v === '') throw new InputError('empty value', at(column));
+    return v;
+  };
+  const number = (column: string, check: (v: number) => string | undefined): number => {
+    const raw = required(column);
+    const v = parseDecimal(raw);
+    if (v === undefined) {
+      throw new InputError(`"${raw.slice(0, 40)}" is not a finite number`, at(column));
+    }
+    const problem = check(v);
+    if (problem) throw new InputError(`${raw.slice(0, 40)} ${problem}`, at(column));
+    return v;
+  };
+
+  const source = required('source');
+  if (source === 'source' && text(rec.mjd).trim() === 'mjd') {
+    throw new InputError('this row repeats the header (were two files joined?)', { row, line });
+  }
+  const mjdText = required('mjd');
+  let epoch: Epoch;
+  try {
+    epoch = parseMjd(mjdText);
+  } catch (e) {
+    if (e instanceof EpochSyntaxError) throw new InputError(e.message, at('mjd'));
+    throw e;
+  }
+  const freqMhz = number('freq_mhz', (v) => (v > 0 ? undefined : 'is not a positive frequency'));
+  const errUs = number('err_us', (v) => (v > 0 ? undefined : 'is not a positive uncertainty'));
+  const out: ToaRow = { row, source, mjdText, epoch, freqMhz, errUs };
+  if (header.hasResidual) out.residualUs = number('residual_us', () => undefined);
+  if (header.hasReceiver) out.receiver = required('receiver');
+  if (header.hasPeriod) {
+    out.periodS = number('period_s', (v) => (v > 0 ? undefined : 'is not a positive period'));
+  }
+  return out;
+}
+
+/** Guess the layout from the file name, then from the first non-blank character. */
+export function detectLayout(fileName: string, firstChars: string): ToaLayout {
+  const lower = fileName.toLowerCase();
+  if (lower.endsWith('.csv')) return 'csv';
+  if (lower.endsWith('.ndjson') || lower.endsWith('.jsonl')) return 'ndjson';
+  if (lower.endsWith('.json')) return firstChars.trimStart().startsWith('{') ? 'ndjson' : 'json';
+  const c = firstChars.trimStart()[0];
+  if (c === '[') return 'json';
+  if (c === '{') return 'ndjson';
+  return 'csv';
+}
+
+/**
+ * JSON numbers lose digits in JSON.parse; quote bare `"mjd": 60000.123…` values first so the
+ * decimal text survives. Returns the rewritten text.
+ */
+export function quoteMjdNumbers(json: string): string {
+  return json.replace(/("mjd"\s*:\s*)(-?\d+(?:\.\d+)?(?:[eE][+-]?\d+)?)/g, '$1"$2"');
+}

@@ -1,0 +1,5 @@
+export * from './common.js';
+export * from './delay.js';
+export * from './solar.js';
+export * from './dm-fit.js';
+export * from './dm-series.js';

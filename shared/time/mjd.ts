@@ -1,0 +1,98 @@
+/**
+ * Exact arrival times. A double holds ~16 significant digits, so an MJD near 60000 in one
+ * Number is good only to ~1 µs. An Epoch keeps the integer day, whole seconds of the day and a
+ * fraction of a second separately; parsing splits the decimal text into 8-digit chunks so
+ * every step is exact integer arithmetic in doubles (each product stays below 2⁵³).
+ */
+export interface Epoch {
+  /** integer MJD */
+  day: number;
+  /** whole seconds of the day, 0 ≤ sec < 86400 */
+  sec: number;
+  /** fraction of a second, 0 ≤ frac < 1 */
+  frac: number;
+}
+
+const MJD_TEXT = /^\s*(-?)(\d+)(?:\.(\d*))?\s*$/;
+
+export class EpochSyntaxError extends Error {}
+
+/** Parse decimal MJD text ("60000.123456789012345") without passing through one double. */
+export function parseMjd(text: string): Epoch {
+  const m = MJD_TEXT.exec(text);
+  if (!m || (m[2] === '' && !m[3])) {
+    throw new EpochSyntaxError(
+      `"${text}" is not a decimal MJD (digits, optional point and fraction)`,
+    );
+  }
+  if (m[1] === '-') throw new EpochSyntaxError(`MJD "${text}" is negative`);
+  if (m[2].length > 9) throw new EpochSyntaxError(`MJD "${text}" is out of range`);
+  const day = Number(m[2]);
+  const digits = (m[3] ?? '').padEnd(24, '0');
+  const c1 = Number(digits.slice(0, 8));
+  const c2 = Number(digits.slice(8, 16));
+  const c3 = Number(digits.slice(16, 24));
+  // seconds = 86400 · (c1/1e8 + c2/1e16 + c3/1e24) = 864·c1/1e6 + 864·c2/1e14 + 864·c3/1e22
+  const a = 864 * c1; // < 8.64e10, exact
+  const sec = Math.floor(a / 1e6);
+  const rem = a - sec * 1e6; // exact integer < 1e6
+  const frac = rem / 1e6 + (864 * c2) / 1e14 + (864 * c3) / 1e22;
+  return normalise({ day, sec, frac });
+}
+
+/** Bring sec and frac back into range after arithmetic. */
+export function normalise(e: Epoch): Epoch {
+  let { day, sec, frac } = e;
+  const wholeFrac = Math.floor(frac);
+  if (wholeFrac !== 0) {
+    sec += wholeFrac;
+    frac -= wholeFrac;
+  }
+  const wholeDays = Math.floor(sec / 86400);
+  if (wholeDays !== 0) {
+    day += wholeDays;
+    sec -= wholeDays * 86400;
+  }
+  return { day, sec, frac };
+}
+
+/** a − b in seconds, exact to ~1e-16 s for differences of a day or less. */
+export function diffSeconds(a: Epoch, b: Epoch): number {
+  return (a.day - b.day) * 86400 + (a.sec - b.sec) + (a.frac - b.frac);
+}
+
+/** Epoch plus a (small) number of seconds. */
+export function addSeconds(e: Epoch, seconds: number): Epoch {
+  const whole = Math.floor(seconds);
+  return normalise({ day: e.day, sec: e.sec + whole, frac: e.frac + (seconds - whole) });
+}
+
+/** Approximate MJD as one double (for grouping, plotting and series epochs; ~1 µs). */
+export function toMjdNumber(e: Epoch): number {
+  return e.day + (e.sec + e.frac) / 86400;
+}
+
+/**
+ * Decimal text of an epoch with `decimals` digits after the point (≤ 20), rounded half up.
+ * Uses femtoseconds in BigInt so the text is exact to well below a picosecond.
+ */
+export function formatMjd(e: Epoch, decimals = 16): string {
+  const d = Math.max(0, Math.min(20, Math.trunc(decimals)));
+  const n = normalise(e);
+  const fs = BigInt(n.sec) * 1_000_000_000_000_000n + BigInt(Math.round(n.frac * 1e15));
+  const dayFs = 86_400_000_000_000_000_000n;
+  const scale = 10n ** BigInt(d);
+  let fracDigits = (fs * scale * 2n + dayFs) / (2n * dayFs);
+  let day = BigInt(n.day);
+  if (fracDigits >= scale) {
+    fracDigits -= scale;
+    day += 1n;
+  }
+  return d === 0 ? day.toString() : `${day}.${fracDigits.toString().padStart(d, '0')}`;
+}
+
+/** Number of digits after the decimal point in an MJD text (0 when none). */
+export function mjdDecimals(text: string): number {
+  const dot = text.indexOf('.');
+  return dot < 0 ? 0 : text.trim().length - dot - 1;
+}

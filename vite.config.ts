@@ -1,0 +1,19 @@
+/// <reference types="vitest/config" />
+import { defineConfig } from 'vite';
+import react from '@vitejs/plugin-react';
+import tailwindcss from '@tailwindcss/vite';
+
+// One config for the web app (Vite root web/) and the test runner (Vitest, run from the top).
+export default defineConfig({
+  root: 'web',
+  plugins: [react(), tailwindcss()],
+  build: { outDir: '../dist/web', emptyOutDir: true },
+  server: { proxy: { '/api': 'http://127.0.0.1:5180' } },
+  test: {
+    root: '.',
+    include: ['tests/**/*.test.ts'],
+    testTimeout: 60_000,
+    hookTimeout: 120_000,
+    pool: 'forks',
+  },
+});
