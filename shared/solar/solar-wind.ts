@@ -34,11 +34,12 @@ export interface SunGeometry {
 /**
  * Solar elongation of a direction and the Earth–Sun distance at an MJD (UTC, treated as UT1;
  * the sub-second difference is irrelevant here). Sun position from astronomy-engine's
- * geocentric vector in the J2000 equatorial frame, with aberration.
+ * geometric geocentric vector in the J2000 equatorial frame (no aberration: the plasma's
+ * place relative to the line of sight is what matters, and 20″ changes nothing here).
  */
 export function sunGeometry(raDeg: number, decDeg: number, mjd: number): SunGeometry {
   const time = MakeTime(mjd - MJD_J2000);
-  const v = GeoVector(Body.Sun, time, true);
+  const v = GeoVector(Body.Sun, time, false);
   const r = Math.hypot(v.x, v.y, v.z);
   const [px, py, pz] = unitVector(raDeg, decDeg);
   const cos = (v.x * px + v.y * py + v.z * pz) / r;
