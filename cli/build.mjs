@@ -1,7 +1,11 @@
 // Bundle the CLI (and the server entry) with esbuild so a cold start reads one small module
 // graph; heavy optional parts (progress spinner) stay in lazily loaded chunks.
 import { build } from 'esbuild';
-import { readFileSync } from 'node:fs';
+import { readFileSync, rmSync } from 'node:fs';
+
+// start clean so chunks of earlier builds do not pile up
+rmSync(new URL('../dist/cli', import.meta.url), { recursive: true, force: true });
+rmSync(new URL('../dist/server', import.meta.url), { recursive: true, force: true });
 
 const pkg = JSON.parse(readFileSync(new URL('../package.json', import.meta.url), 'utf8'));
 const common = {

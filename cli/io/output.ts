@@ -64,11 +64,15 @@ export function openOutput(path?: string): Output {
   };
 }
 
-/** Write a whole text atomically (or to stdout). */
-export async function writeOutput(path: string | undefined, text: string): Promise<void> {
+/** Write a text, or its pieces in order, atomically (or to stdout). */
+export async function writeOutput(
+  path: string | undefined,
+  text: string | Iterable<string>,
+): Promise<void> {
   const out = openOutput(path);
   try {
-    await out.write(text);
+    if (typeof text === 'string') await out.write(text);
+    else for (const piece of text) await out.write(piece);
     await out.commit();
   } catch (e) {
     out.abort();

@@ -58,7 +58,8 @@ export async function streamToas(path: string, onRow: RowHandler): Promise<ReadS
     const hash = createHash('sha256');
     const stream = createReadStream(path);
     stream.on('data', (chunk) => hash.update(chunk));
-    const r = layout === 'csv' ? await readCsv(stream, onRow) : await readNdjson(stream, onRow);
+    const r =
+      layout === 'csv' ? await readCsv(path, stream, onRow) : await readNdjson(stream, onRow);
     return { ...r, path, layout, sha256: hash.digest('hex') };
   } catch (e) {
     if (e instanceof InputError) throw e.inFile(path);
@@ -66,40 +67,84 @@ export async function streamToas(path: string, onRow: RowHandler): Promise<ReadS
   }
 }
 
-async function readCsv(stream: NodeJS.ReadableStream, onRow: RowHandler) {
-  const parser = stream.pipe(
-    parseCsv({ bom: true, skip_empty_lines: true, info: true, trim: true }),
+/**
+ * CSV through csv-parse, consumed by 'data' events (no per-record promises). Line numbers are
+ * not tracked per record, which would double the parse cost; an error's line is recovered by
+ * re-reading the file up to the failing row.
+ */
+function readCsv(path: string, stream: NodeJS.ReadableStream, onRow: RowHandler) {
+  return new Promise<{ header: ToaHeader; rows: number; mjdWasNumber: boolean }>(
+    (resolve, reject) => {
+      const parser = parseCsv({ bom: true, skip_empty_lines: true, trim: true });
+      let header: ToaHeader | undefined;
+      let rows = 0;
+      let failed = false;
+      const fail = (e: unknown) => {
+        if (failed) return;
+        failed = true;
+        stream.unpipe(parser);
+        parser.destroy();
+        if (e instanceof CsvError) {
+          const err = e as CsvError & { lines?: number; record?: unknown[] };
+          const reason =
+            err.code === 'CSV_RECORD_INCONSISTENT_FIELDS_LENGTH'
+              ? `${err.record?.length ?? '?'} fields where the header has ${header?.columns.length ?? '?'}`
+              : err.message.replace(/^Invalid Record Length: |^Invalid Opening Quote: /, '');
+          reject(new InputError(reason, { row: rows + 1, line: err.lines }));
+        } else if (
+          e instanceof InputError &&
+          e.location.row !== undefined &&
+          e.location.line === undefined
+        ) {
+          lineOfRow(path, e.location.row).then(
+            (line) => reject(new InputError(e.reason, { ...e.location, line })),
+            () => reject(e),
+          );
+        } else reject(e);
+      };
+      parser.on('data', (record: string[]) => {
+        if (failed) return;
+        try {
+          if (!header) {
+            header = checkHeader(record);
+            return;
+          }
+          rows++;
+          const wait = onRow(parseToaRecord(record, header, rows), record, header, false);
+          if (wait) {
+            parser.pause();
+            wait.then(() => parser.resume(), fail);
+          }
+        } catch (e) {
+          fail(e);
+        }
+      });
+      parser.on('error', fail);
+      parser.on('end', () => {
+        if (failed) return;
+        if (!header) fail(new InputError('the file has no header line'));
+        else if (rows === 0) fail(new InputError('the file has a header but no data rows'));
+        else resolve({ header, rows, mjdWasNumber: false });
+      });
+      stream.on('error', fail);
+      stream.pipe(parser);
+    },
   );
-  let header: ToaHeader | undefined;
-  let rows = 0;
-  try {
-    for await (const { record, info } of parser as AsyncIterable<{
-      record: string[];
-      info: { lines: number };
-    }>) {
-      if (!header) {
-        header = checkHeader(record);
-        continue;
-      }
-      rows++;
-      const rec: Record<string, string> = {};
-      for (let c = 0; c < header.columns.length; c++) rec[header.columns[c]] = record[c];
-      await onRow(parseToaRecord(rec, header, rows, info.lines), record, header, false);
+}
+
+/** The file line on which data row `row` ends (header is row 0), for error messages. */
+async function lineOfRow(path: string, row: number): Promise<number | undefined> {
+  const parser = createReadStream(path).pipe(
+    parseCsv({ bom: true, skip_empty_lines: true, info: true, relax_column_count: true }),
+  );
+  let n = -1;
+  for await (const { info } of parser as AsyncIterable<{ info: { lines: number } }>) {
+    if (++n === row) {
+      parser.destroy();
+      return info.lines;
     }
-  } catch (e) {
-    if (e instanceof CsvError) {
-      const err = e as CsvError & { lines?: number; record?: unknown[] };
-      const reason =
-        err.code === 'CSV_RECORD_INCONSISTENT_FIELDS_LENGTH'
-          ? `${err.record?.length ?? '?'} fields where the header has ${header?.columns.length ?? '?'}`
-          : err.message.replace(/^Invalid Record Length: |^Invalid Opening Quote: /, '');
-      throw new InputError(reason, { row: rows + 1, line: err.lines });
-    }
-    throw e;
   }
-  if (!header) throw new InputError('the file has no header line');
-  if (rows === 0) throw new InputError('the file has a header but no data rows');
-  return { header, rows, mjdWasNumber: false };
+  return undefined;
 }
 
 function checkObject(v: unknown, row: number, line?: number): Record<string, unknown> {
@@ -173,8 +218,10 @@ export async function readToaTable(
   path: string,
 ): Promise<{ table: ToaTable; summary: ReadSummary }> {
   let table: ToaTable | undefined;
+  // rows of arrival-time tables take 30–60 bytes: size the columns once, generously
+  const expectedRows = Math.max(1024, statSync(path).size / 26);
   const summary = await streamToas(path, (row, _raw, header) => {
-    table ??= new ToaTable(header, 4096);
+    table ??= new ToaTable(header, expectedRows);
     table.push(row);
   });
   return { table: table!, summary };

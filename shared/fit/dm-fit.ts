@@ -1,7 +1,7 @@
 import type { DispersionConstant } from '../physics/constants.js';
 import type { ToaTable } from '../formats/toa-table.js';
 import { InputError } from '../formats/errors.js';
-import { weightedLeastSquares, SingularDesignError, type WlsFit } from './wls.js';
+import { weightedLeastSquares, weightedLine, SingularDesignError, type WlsFit } from './wls.js';
 import { groupVisits, orderBySourceAndTime, type VisitGrouping } from './visits.js';
 import { addSeconds, diffSeconds, formatMjd } from '../time/mjd.js';
 import { chi2Sf } from '../stats/gamma.js';
@@ -58,7 +58,19 @@ export function fitDmVisits(table: ToaTable, opts: DmFitOptions): VisitFit[] {
   );
 }
 
+const modelNames = new Map<string, string>();
+
 function describeModel(receivers: string[], evolution: number, residual: boolean): string {
+  const key = `${receivers.join('\u0000')}|${evolution}|${residual}`;
+  let name = modelNames.get(key);
+  if (name === undefined) {
+    name = modelName(receivers, evolution, residual);
+    if (modelNames.size < 1000) modelNames.set(key, name);
+  }
+  return name;
+}
+
+function modelName(receivers: string[], evolution: number, residual: boolean): string {
   const offset = receivers.length > 1 ? `offsets per receiver (${receivers.join(', ')})` : 'offset';
   const evo = evolution > 0 ? ` + profile evolution (degree ${evolution} in log10 ν/GHz)` : '';
   return `${residual ? 'residual' : 'arrival time'} = ${offset} + K·DM/ν²${evo}`;
@@ -85,13 +97,9 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
   }
   const source = table.sources[table.sourceId(rows[0])];
   const mjd = mjdSum / n;
-  const freqsOf = (active: Uint8Array) => {
-    const s = new Set<number>();
-    for (let j = 0; j < n; j++) if (active[j]) s.add(table.freqMhz(rows[j]));
-    return s.size;
-  };
-  const allActive = new Uint8Array(n).fill(1);
-  const nFreqs = freqsOf(allActive);
+  const freqsOf = (active: Uint8Array) => countDistinctFrequencies(table, rows, active);
+  const active = new Uint8Array(n).fill(1);
+  const nFreqs = freqsOf(active);
   const hasReceivers = table.header.hasReceiver;
   const receiverNames = (active: Uint8Array) => {
     if (!hasReceivers) return [''];
@@ -120,9 +128,10 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
     chi2_p_value: null,
     flagged_rows: [],
     warnings: [],
-    model: describeModel(receiverNames(allActive).filter(Boolean), opts.evolution, residualMode),
+    model: '',
   };
   if (nFreqs < 2) {
+    base.model = describeModel(receiverNames(active).filter(Boolean), opts.evolution, residualMode);
     base.warnings.push(
       'fewer than two distinct frequencies: DM is not constrained, visit not fitted',
     );
@@ -130,8 +139,7 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
   }
 
   // Data: residuals as given, or arrival-time offsets from the highest-frequency arrival.
-  const y = new Float64Array(n);
-  const sigma = new Float64Array(n);
+  const { y, sigma, ya, sa, x, residuals } = scratchFor(n);
   let periodUsed: number | undefined;
   for (let j = 0; j < n; j++) {
     const i = rows[j];
@@ -151,7 +159,6 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
     }
   }
 
-  const active = new Uint8Array(n).fill(1);
   let fit: WlsFit | undefined;
   let receivers: string[];
   let p: number;
@@ -162,13 +169,19 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
     const nOff = receivers.length;
     p = nOff + 1 + opts.evolution;
     const m = activeIdx.length;
-    const design = new Float64Array(m * p);
-    const ya = new Float64Array(m);
-    const sa = new Float64Array(m);
+    // one offset and DM only: the closed-form line fit (same solution as QR, far fewer steps)
+    const line = p === 2;
+    const design = line ? x : new Float64Array(m * p);
     for (let r = 0; r < m; r++) {
       const j = activeIdx[r];
       const i = rows[j];
       const f = table.freqMhz(i);
+      ya[r] = y[j];
+      sa[r] = sigma[j];
+      if (line) {
+        design[r] = (k * 1e6) / (f * f);
+        continue;
+      }
       const off = hasReceivers ? receivers.indexOf(table.receivers[table.receiverId(i)]) : 0;
       design[r * p + off] = 1;
       design[r * p + nOff] = (k * 1e6) / (f * f);
@@ -178,11 +191,11 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
         lp *= l;
         design[r * p + nOff + e] = lp;
       }
-      ya[r] = y[j];
-      sa[r] = sigma[j];
     }
     try {
-      fit = weightedLeastSquares(design, ya, sa, m, p);
+      fit = line
+        ? weightedLine(design, ya, sa, m, residuals)
+        : weightedLeastSquares(design, ya.subarray(0, m), sa.subarray(0, m), m, p);
     } catch (e) {
       if (!(e instanceof SingularDesignError)) throw e;
       base.warnings.push(
@@ -191,6 +204,7 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
           : 'DM cannot be separated from the receiver offsets or evolution terms (does each receiver cover only one frequency?): visit not fitted',
       );
       base.flagged_rows = flaggedRows(table, rows, active);
+      base.model = describeModel(receivers.filter(Boolean), opts.evolution, residualMode);
       return base;
     }
     if (opts.clipSigma === undefined || fit.dof < 2) break;
@@ -214,24 +228,23 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
   const dm = fit.params[nOff];
   const dmErr = Math.sqrt(fit.cov[nOff * p + nOff]);
   const red = fit.dof > 0 ? fit.chi2 / fit.dof : null;
-  const out: VisitFit = {
-    ...base,
-    status: 'fitted',
-    dm,
-    dm_err: dmErr,
-    dm_err_scaled: red !== null && red > 1 ? dmErr * Math.sqrt(red) : dmErr,
-    offset_us: fit.params[0],
-    chi2: fit.chi2,
-    dof: fit.dof,
-    reduced_chi2: red,
-    chi2_p_value: fit.dof > 0 ? chi2Sf(fit.chi2, fit.dof) : null,
-    flagged_rows: flaggedRows(table, rows, active),
-    model: describeModel(receivers.filter(Boolean), opts.evolution, residualMode),
-  };
+  // fill in the visit record in place (no copies: a run may hold 10⁵ of them)
+  const out = base;
+  out.status = 'fitted';
+  out.dm = dm;
+  out.dm_err = dmErr;
+  out.dm_err_scaled = red !== null && red > 1 ? dmErr * Math.sqrt(red) : dmErr;
+  out.offset_us = fit.params[0];
+  out.chi2 = fit.chi2;
+  out.dof = fit.dof;
+  out.reduced_chi2 = red;
+  out.chi2_p_value = fit.dof > 0 ? chi2Sf(fit.chi2, fit.dof) : null;
+  out.flagged_rows = flaggedRows(table, rows, active);
+  out.model = describeModel(receivers.filter(Boolean), opts.evolution, residualMode);
   if (hasReceivers && nOff > 1) {
     out.receiver_offsets_us = Object.fromEntries(receivers.map((r, i) => [r, fit.params[i]]));
   }
-  if (opts.evolution > 0) out.evolution_us = Array.from(fit.params.subarray(nOff + 1));
+  if (opts.evolution > 0) out.evolution_us = Array.prototype.slice.call(fit.params, nOff + 1);
   if (!residualMode) {
     out.t_inf_mjd = formatMjd(
       addSeconds(table.epoch(ref), fit.params[0] * 1e-6),
@@ -278,6 +291,50 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
   return out;
 }
 
+let distinctScratch = new Float64Array(64);
+
+interface Scratch {
+  y: Float64Array;
+  sigma: Float64Array;
+  ya: Float64Array;
+  sa: Float64Array;
+  x: Float64Array;
+  residuals: Float64Array;
+}
+let scratch: Scratch | undefined;
+
+/** Work buffers reused from visit to visit (fits run one at a time), grown when needed. */
+function scratchFor(n: number): Scratch {
+  if (!scratch || scratch.y.length < n) {
+    const size = Math.max(64, n * 2);
+    scratch = {
+      y: new Float64Array(size),
+      sigma: new Float64Array(size),
+      ya: new Float64Array(size),
+      sa: new Float64Array(size),
+      x: new Float64Array(size),
+      residuals: new Float64Array(size),
+    };
+  }
+  return scratch;
+}
+
+/** Number of distinct frequencies among the active rows (sorted scratch copy, no Set). */
+function countDistinctFrequencies(
+  table: ToaTable,
+  rows: ArrayLike<number>,
+  active: Uint8Array,
+): number {
+  if (distinctScratch.length < rows.length) distinctScratch = new Float64Array(rows.length * 2);
+  let m = 0;
+  for (let j = 0; j < rows.length; j++)
+    if (active[j]) distinctScratch[m++] = table.freqMhz(rows[j]);
+  const f = distinctScratch.subarray(0, m).sort();
+  let count = m > 0 ? 1 : 0;
+  for (let j = 1; j < m; j++) if (f[j] !== f[j - 1]) count++;
+  return count;
+}
+
 function flaggedRows(table: ToaTable, rows: ArrayLike<number>, active: Uint8Array): number[] {
   const out: number[] = [];
   for (let j = 0; j < rows.length; j++) if (!active[j]) out.push(table.row(rows[j]));
@@ -286,5 +343,8 @@ function flaggedRows(table: ToaTable, rows: ArrayLike<number>, active: Uint8Arra
 
 /** Round to a decimal step such as 1e-7 without binary noise in the printed value. */
 function round(v: number, step: number, how: (x: number) => number = Math.round): number {
-  return Number((how(v / step) * step).toFixed(Math.round(-Math.log10(step))));
+  // an integer divided by an exact power of ten is the double nearest the decimal, so it prints
+  // without binary noise
+  const inv = Math.round(1 / step);
+  return how(v * inv) / inv;
 }

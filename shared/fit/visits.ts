@@ -3,25 +3,29 @@ import type { ToaTable } from '../formats/toa-table.js';
 export type VisitGrouping =
   { kind: 'gap'; gapDays: number } | { kind: 'window'; windowDays: number; startMjd: number };
 
-/** Row indices ordered by source, then time. Skips the sort when the table is already ordered. */
+/**
+ * Row indices ordered by source, then time: a stable counting sort by source (rows of one
+ * source keep their file order), then a sort by time only for sources whose rows are not
+ * already in time order.
+ */
 export function orderBySourceAndTime(t: ToaTable): Uint32Array {
   const n = t.length;
+  const mjd = t.mjdColumn();
+  const nSources = t.sources.length;
+  const start = new Uint32Array(nSources + 1);
+  for (let i = 0; i < n; i++) start[t.sourceId(i) + 1]++;
+  for (let s = 0; s < nSources; s++) start[s + 1] += start[s];
+  const fill = start.slice(0, nSources);
   const idx = new Uint32Array(n);
-  let sorted = true;
-  for (let i = 0; i < n; i++) {
-    idx[i] = i;
-    if (
-      i > 0 &&
-      (t.sourceId(i) < t.sourceId(i - 1) ||
-        (t.sourceId(i) === t.sourceId(i - 1) && t.mjd(i) < t.mjd(i - 1)))
-    ) {
-      sorted = false;
-    }
+  for (let i = 0; i < n; i++) idx[fill[t.sourceId(i)]++] = i;
+  for (let s = 0; s < nSources; s++) {
+    const a = start[s];
+    const b = start[s + 1];
+    let sorted = true;
+    for (let k = a + 1; k < b && sorted; k++) if (mjd[idx[k]] < mjd[idx[k - 1]]) sorted = false;
+    if (!sorted) idx.subarray(a, b).sort((x, y) => mjd[x] - mjd[y] || x - y);
   }
-  if (sorted) return idx;
-  const key = new Float64Array(n);
-  for (let i = 0; i < n; i++) key[i] = t.mjd(i);
-  return idx.sort((a, b) => t.sourceId(a) - t.sourceId(b) || key[a] - key[b] || a - b);
+  return idx;
 }
 
 /**
@@ -35,11 +39,10 @@ export function groupVisits(
   grouping: VisitGrouping,
 ): Array<[number, number]> {
   const out: Array<[number, number]> = [];
-  let begin = 0;
+  const mjd = t.mjdColumn();
   const windowOf = (i: number) =>
-    grouping.kind === 'window'
-      ? Math.floor((t.mjd(i) - grouping.startMjd) / grouping.windowDays)
-      : 0;
+    grouping.kind === 'window' ? Math.floor((mjd[i] - grouping.startMjd) / grouping.windowDays) : 0;
+  let begin = 0;
   for (let k = 1; k <= order.length; k++) {
     if (k === order.length) {
       if (order.length > 0) out.push([begin, k]);
@@ -49,9 +52,7 @@ export function groupVisits(
     const b = order[k];
     const split =
       t.sourceId(a) !== t.sourceId(b) ||
-      (grouping.kind === 'gap'
-        ? t.mjd(b) - t.mjd(a) > grouping.gapDays
-        : windowOf(a) !== windowOf(b));
+      (grouping.kind === 'gap' ? mjd[b] - mjd[a] > grouping.gapDays : windowOf(a) !== windowOf(b));
     if (split) {
       out.push([begin, k]);
       begin = k;

@@ -5,9 +5,9 @@
  */
 export interface WlsFit {
   /** best-fit parameters */
-  params: Float64Array;
+  params: ArrayLike<number>;
   /** covariance (AᵀWA)⁻¹, row-major p × p */
-  cov: Float64Array;
+  cov: ArrayLike<number>;
   /** model − data residuals are data − model: y − A·params */
   residuals: Float64Array;
   chi2: number;
@@ -114,4 +114,60 @@ export function weightedLeastSquares(
     chi2 += t * t;
   }
   return { params, cov, residuals, chi2, dof: n - p };
+}
+
+/**
+ * The two-parameter case y = a + b·x in closed form with weighted centring (the same solution
+ * and covariance as the QR path, without building a design matrix): b = Σw(x−x̄)(y−ȳ)/Σw(x−x̄)²,
+ * var b = 1/Σw(x−x̄)², var a = 1/Σw + x̄² var b, cov(a,b) = −x̄ var b.
+ */
+export function weightedLine(
+  x: ArrayLike<number>,
+  y: ArrayLike<number>,
+  sigma: ArrayLike<number>,
+  n: number,
+  /** optional buffer (length ≥ n) to receive the residuals, to spare an allocation per call */
+  residualsOut?: Float64Array,
+): WlsFit {
+  if (n < 2) throw new SingularDesignError(n);
+  let sw = 0;
+  let swx = 0;
+  let swy = 0;
+  for (let i = 0; i < n; i++) {
+    const w = 1 / (sigma[i] * sigma[i]);
+    sw += w;
+    swx += w * x[i];
+    swy += w * y[i];
+  }
+  const xm = swx / sw;
+  const ym = swy / sw;
+  let sxx = 0;
+  let sxy = 0;
+  let xscale = 0;
+  for (let i = 0; i < n; i++) {
+    const w = 1 / (sigma[i] * sigma[i]);
+    const dx = x[i] - xm;
+    sxx += w * dx * dx;
+    sxy += w * dx * (y[i] - ym);
+    xscale = Math.max(xscale, Math.abs(x[i]));
+  }
+  // x constant (to rounding): the slope is not determined
+  if (!(sxx > 1e-20 * xscale * xscale * sw)) throw new SingularDesignError(1);
+  const b = sxy / sxx;
+  const a = ym - b * xm;
+  const vb = 1 / sxx;
+  const residuals = residualsOut ?? new Float64Array(n);
+  let chi2 = 0;
+  for (let i = 0; i < n; i++) {
+    residuals[i] = y[i] - a - b * x[i];
+    const t = residuals[i] / sigma[i];
+    chi2 += t * t;
+  }
+  return {
+    params: [a, b],
+    cov: [1 / sw + xm * xm * vb, -xm * vb, -xm * vb, vb],
+    residuals,
+    chi2,
+    dof: n - 2,
+  };
 }

@@ -1,18 +1,20 @@
 import type { ToaHeader, ToaRow } from './toas.js';
 import type { Epoch } from '../time/mjd.js';
 
-/** Growable Float64Array. */
-class Column {
-  data: Float64Array;
-  constructor(capacity: number) {
-    this.data = new Float64Array(capacity);
-  }
-  grow(capacity: number): void {
-    const next = new Float64Array(capacity);
-    next.set(this.data);
-    this.data = next;
-  }
-}
+type ColumnName =
+  'day' | 'sec' | 'frac' | 'freq' | 'err' | 'res' | 'period' | 'row' | 'src' | 'rcv';
+const COLUMNS: ColumnName[] = [
+  'day',
+  'sec',
+  'frac',
+  'freq',
+  'err',
+  'res',
+  'period',
+  'row',
+  'src',
+  'rcv',
+];
 
 /**
  * Arrival times held column by column in typed arrays, so a million rows cost tens of
@@ -25,28 +27,49 @@ export class ToaTable {
   readonly receivers: string[] = [];
   private readonly sourceIndex = new Map<string, number>();
   private readonly receiverIndex = new Map<string, number>();
-  private cols: Record<
-    'day' | 'sec' | 'frac' | 'freq' | 'err' | 'res' | 'period' | 'row' | 'src' | 'rcv',
-    Column
-  >;
+  private capacity: number;
+  private day: Float64Array;
+  private sec: Float64Array;
+  private frac: Float64Array;
+  private freq: Float64Array;
+  private err: Float64Array;
+  private res: Float64Array;
+  private period: Float64Array;
+  private rowNo: Float64Array;
+  private src: Float64Array;
+  private rcv: Float64Array;
+  private lastSource = '';
+  private lastSourceId = -1;
   /** Largest number of decimals seen in an MJD text (for writing epochs back). */
   mjdDecimals = 0;
 
-  constructor(header: ToaHeader, capacity = 1024) {
+  /** capacity: expected rows (a guess from the file size avoids regrowing). */
+  constructor(header: ToaHeader, capacity = 65536) {
     this.header = header;
-    const c = () => new Column(capacity);
-    this.cols = {
-      day: c(),
-      sec: c(),
-      frac: c(),
-      freq: c(),
-      err: c(),
-      res: c(),
-      period: c(),
-      row: c(),
-      src: c(),
-      rcv: c(),
-    };
+    this.capacity = Math.max(16, Math.ceil(capacity));
+    const c = this.capacity;
+    this.day = new Float64Array(c);
+    this.sec = new Float64Array(c);
+    this.frac = new Float64Array(c);
+    this.freq = new Float64Array(c);
+    this.err = new Float64Array(c);
+    this.res = new Float64Array(c);
+    this.period = new Float64Array(c);
+    this.rowNo = new Float64Array(c);
+    this.src = new Float64Array(c);
+    this.rcv = new Float64Array(c);
+  }
+
+  private grow(): void {
+    const next = Math.max(1024, this.capacity * 2);
+    for (const name of COLUMNS) {
+      const key = name === 'row' ? 'rowNo' : name;
+      const old = this[key];
+      const fresh = new Float64Array(next);
+      fresh.set(old);
+      this[key] = fresh;
+    }
+    this.capacity = next;
   }
 
   private intern(map: Map<string, number>, list: string[], name: string): number {
@@ -61,52 +84,67 @@ export class ToaTable {
 
   push(r: ToaRow): void {
     const n = this.length;
-    if (n === this.cols.day.data.length) {
-      for (const col of Object.values(this.cols)) col.grow(Math.max(1024, n * 2));
+    if (n === this.capacity) this.grow();
+    this.day[n] = r.epoch.day;
+    this.sec[n] = r.epoch.sec;
+    this.frac[n] = r.epoch.frac;
+    this.freq[n] = r.freqMhz;
+    this.err[n] = r.errUs;
+    this.res[n] = r.residualUs ?? NaN;
+    this.period[n] = r.periodS ?? NaN;
+    this.rowNo[n] = r.row;
+    if (r.source !== this.lastSource || this.lastSourceId < 0) {
+      this.lastSource = r.source;
+      this.lastSourceId = this.intern(this.sourceIndex, this.sources, r.source);
     }
-    const c = this.cols;
-    c.day.data[n] = r.epoch.day;
-    c.sec.data[n] = r.epoch.sec;
-    c.frac.data[n] = r.epoch.frac;
-    c.freq.data[n] = r.freqMhz;
-    c.err.data[n] = r.errUs;
-    c.res.data[n] = r.residualUs ?? NaN;
-    c.period.data[n] = r.periodS ?? NaN;
-    c.row.data[n] = r.row;
-    c.src.data[n] = this.intern(this.sourceIndex, this.sources, r.source);
-    c.rcv.data[n] =
+    this.src[n] = this.lastSourceId;
+    this.rcv[n] =
       r.receiver === undefined ? -1 : this.intern(this.receiverIndex, this.receivers, r.receiver);
-    const dot = r.mjdText.indexOf('.');
-    if (dot >= 0) this.mjdDecimals = Math.max(this.mjdDecimals, r.mjdText.length - dot - 1);
+    const t = r.mjdText;
+    const dot = t.indexOf('.');
+    if (dot >= 0 && t.length - dot - 1 > this.mjdDecimals) this.mjdDecimals = t.length - dot - 1;
     this.length = n + 1;
   }
 
+  private mjdCache: Float64Array | undefined;
+
+  /** Approximate MJDs of all rows as doubles (computed once; for ordering and grouping). */
+  mjdColumn(): Float64Array {
+    if (!this.mjdCache || this.mjdCache.length !== this.length) {
+      const out = new Float64Array(this.length);
+      for (let i = 0; i < this.length; i++)
+        out[i] = this.day[i] + (this.sec[i] + this.frac[i]) / 86400;
+      this.mjdCache = out;
+    }
+    return this.mjdCache;
+  }
+
   epoch(i: number): Epoch {
-    return { day: this.cols.day.data[i], sec: this.cols.sec.data[i], frac: this.cols.frac.data[i] };
+    return { day: this.day[i], sec: this.sec[i], frac: this.frac[i] };
   }
   /** Approximate MJD as a double (grouping, plotting). */
   mjd(i: number): number {
-    return this.cols.day.data[i] + (this.cols.sec.data[i] + this.cols.frac.data[i]) / 86400;
+    return this.day[i] + (this.sec[i] + this.frac[i]) / 86400;
   }
   freqMhz(i: number): number {
-    return this.cols.freq.data[i];
+    return this.freq[i];
   }
   errUs(i: number): number {
-    return this.cols.err.data[i];
+    return this.err[i];
   }
   residualUs(i: number): number {
-    return this.cols.res.data[i];
+    return this.res[i];
   }
   periodS(i: number): number {
-    return this.cols.period.data[i];
+    return this.period[i];
   }
   row(i: number): number {
-    return this.cols.row.data[i];
+    return this.rowNo[i];
   }
   sourceId(i: number): number {
-    return this.cols.src.data[i];
+    return this.src[i];
   }
   receiverId(i: number): number {
-    return this.cols.rcv.data[i];
+    return this.rcv[i];
   }
 }

@@ -26,6 +26,8 @@ export interface ToaRow {
 
 export interface ToaHeader {
   columns: string[];
+  /** position of each column, for records read as arrays (CSV) */
+  index: Record<string, number>;
   hasResidual: boolean;
   hasReceiver: boolean;
   hasPeriod: boolean;
@@ -70,6 +72,7 @@ export function checkHeader(columns: string[]): ToaHeader {
   }
   return {
     columns,
+    index: Object.fromEntries(columns.map((c, i) => [c, i])),
     hasResidual: seen.has('residual_us'),
     hasReceiver: seen.has('receiver'),
     hasPeriod: seen.has('period_s'),
@@ -84,18 +87,22 @@ function text(v: Field): string {
 }
 
 /**
- * Validate one record (already keyed by column). `row` counts data rows from 1; `line` is the
- * line of the file when known. Throws InputError naming row, line and column.
+ * Validate one record: fields in header order (CSV) or keyed by column (JSON). `row` counts
+ * data rows from 1; `line` is the line of the file when known. Throws InputError naming row,
+ * line and column.
  */
 export function parseToaRecord(
-  rec: Record<string, Field>,
+  rec: Record<string, Field> | Field[],
   header: ToaHeader,
   row: number,
   line?: number,
 ): ToaRow {
   const at = (column: string) => ({ row, line, column });
+  const get = Array.isArray(rec)
+    ? (column: string) => rec[header.index[column]]
+    : (column: string) => rec[column];
   const required = (column: string): string => {
-    const v = text(rec[column]).trim();
+    const v = text(get(column)).trim();
     if (v === '') throw new InputError('empty value', at(column));
     return v;
   };
@@ -111,7 +118,7 @@ export function parseToaRecord(
   };
 
   const source = required('source');
-  if (source === 'source' && text(rec.mjd).trim() === 'mjd') {
+  if (source === 'source' && text(get('mjd')).trim() === 'mjd') {
     throw new InputError('this row repeats the header (were two files joined?)', { row, line });
   }
   const mjdText = required('mjd');

@@ -13,31 +13,65 @@ export interface Epoch {
   frac: number;
 }
 
-const MJD_TEXT = /^\s*(-?)(\d+)(?:\.(\d*))?\s*$/;
-
 export class EpochSyntaxError extends Error {}
+
+const DIGIT_0 = 48;
+const POW10 = [1, 10, 100, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8];
+
+/**
+ * Value of the 8-digit chunk of the fraction starting at fractional digit `from` (digits past
+ * the end count as 0).
+ */
+function chunk(text: string, start: number, end: number, from: number): number {
+  let v = 0;
+  const a = start + from;
+  const b = Math.min(a + 8, end);
+  for (let i = a; i < b; i++) v = v * 10 + (text.charCodeAt(i) - DIGIT_0);
+  return a < b ? v * POW10[8 - (b - a)] : 0;
+}
 
 /** Parse decimal MJD text ("60000.123456789012345") without passing through one double. */
 export function parseMjd(text: string): Epoch {
-  const m = MJD_TEXT.exec(text);
-  if (!m || (m[2] === '' && !m[3])) {
-    throw new EpochSyntaxError(
-      `"${text}" is not a decimal MJD (digits, optional point and fraction)`,
-    );
+  let start = 0;
+  let end = text.length;
+  while (start < end && text.charCodeAt(start) <= 32) start++;
+  while (end > start && text.charCodeAt(end - 1) <= 32) end--;
+  let day = 0;
+  let i = start;
+  for (; i < end; i++) {
+    const c = text.charCodeAt(i) - DIGIT_0;
+    if (c < 0 || c > 9) break;
+    day = day * 10 + c;
   }
-  if (m[1] === '-') throw new EpochSyntaxError(`MJD "${text}" is negative`);
-  if (m[2].length > 9) throw new EpochSyntaxError(`MJD "${text}" is out of range`);
-  const day = Number(m[2]);
-  const digits = (m[3] ?? '').padEnd(24, '0');
-  const c1 = Number(digits.slice(0, 8));
-  const c2 = Number(digits.slice(8, 16));
-  const c3 = Number(digits.slice(16, 24));
+  const intDigits = i - start;
+  let fracStart = end;
+  if (i < end) {
+    if (text.charCodeAt(i) !== 46 /* . */) return syntaxError(text);
+    fracStart = i + 1;
+    for (let j = fracStart; j < end; j++) {
+      const c = text.charCodeAt(j) - DIGIT_0;
+      if (c < 0 || c > 9) return syntaxError(text);
+    }
+  }
+  if (intDigits === 0) return syntaxError(text);
+  if (intDigits > 9) throw new EpochSyntaxError(`MJD "${text}" is out of range`);
+  const c1 = chunk(text, fracStart, end, 0);
+  const c2 = chunk(text, fracStart, end, 8);
+  const c3 = chunk(text, fracStart, end, 16);
   // seconds = 86400 · (c1/1e8 + c2/1e16 + c3/1e24) = 864·c1/1e6 + 864·c2/1e14 + 864·c3/1e22
   const a = 864 * c1; // < 8.64e10, exact
   const sec = Math.floor(a / 1e6);
   const rem = a - sec * 1e6; // exact integer < 1e6
   const frac = rem / 1e6 + (864 * c2) / 1e14 + (864 * c3) / 1e22;
-  return normalise({ day, sec, frac });
+  return frac >= 1 ? normalise({ day, sec, frac }) : { day, sec, frac };
+}
+
+function syntaxError(text: string): never {
+  const t = text.trim();
+  if (t.startsWith('-') && /^-\d/.test(t)) throw new EpochSyntaxError(`MJD "${text}" is negative`);
+  throw new EpochSyntaxError(
+    `"${text}" is not a decimal MJD (digits, optional point and fraction)`,
+  );
 }
 
 /** Bring sec and frac back into range after arithmetic. */

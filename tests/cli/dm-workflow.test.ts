@@ -235,7 +235,7 @@ describe('dm fit → dm series → toas correct on the demo data', () => {
     const bad = sightline(['toas', 'correct', other, '--series', seriesPath]);
     expect(bad.code).toBe(2);
     expect(bad.stderr).toMatch(
-      /other\.csv: row 2: column "source": source "SBP-Z" is not in the series/,
+      /other\.csv: row 2, line 3: column "source": source "SBP-Z" is not in the series/,
     );
     expect(bad.stdout).toBe('');
   });

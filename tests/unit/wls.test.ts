@@ -56,3 +56,23 @@ describe('weighted least squares', () => {
     ).toThrow(SingularDesignError);
   });
 });
+
+describe('closed-form weighted line', () => {
+  it('equals the QR solution, covariance and χ² for the same data', async () => {
+    const { weightedLine } = await import('../../shared/fit/wls.js');
+    const x = new Float64Array([13716, 9000, 4000, 2100, 1500, 900]);
+    const y = new Float64Array([12.1, 8.3, 3.9, 2.2, 1.4, 0.8]);
+    const s = new Float64Array([0.5, 0.4, 0.3, 0.3, 0.2, 0.6]);
+    const A = new Float64Array(12);
+    x.forEach((v, i) => {
+      A[2 * i] = 1;
+      A[2 * i + 1] = v;
+    });
+    const q = weightedLeastSquares(A, y, s, 6, 2);
+    const l = weightedLine(x, y, s, 6);
+    for (let i = 0; i < 2; i++) expect(Math.abs(l.params[i] / q.params[i] - 1)).toBeLessThan(1e-12);
+    for (let i = 0; i < 4; i++) expect(Math.abs(l.cov[i] / q.cov[i] - 1)).toBeLessThan(1e-11);
+    expect(Math.abs(l.chi2 / q.chi2 - 1)).toBeLessThan(1e-11);
+    expect(() => weightedLine(new Float64Array([3, 3, 3]), y, s, 3)).toThrow(SingularDesignError);
+  });
+});

@@ -1,0 +1,455 @@
+// `npm run bench`: Sightline side by side with NumPy, in one run, reported as ratios.
+//
+//   node tests/bench/run.mjs [--visits N] [--repeat N] [--cold N] [--keep]
+//
+// (`npm run bench` builds the CLI first.) Steps:
+//   1. writes a seeded synthetic residual table (default 10⁶ rows in 10⁵ visits) to a temporary
+//      folder;
+//   2. times the DM fit per visit:
+//        fit only    fitDmVisits() on a table already in memory (tests/bench/fit-only.ts, best
+//                    of 3) against the NumPy fit stage (tests/bench/dm_fit_numpy.py, best of 3);
+//        end to end  `sightline dm fit FILE --json --out OUT --quiet` against
+//                    `python3 dm_fit_numpy.py FILE --out OUT`, both as processes, wall clock,
+//                    median of --repeat runs: start, read, validate, fit, write;
+//   3. checks that every visit's DM (and its error, χ², dof) agrees between the two;
+//   4. times the cold start of `sightline delay --dm 100 --freq 1400` against `node -e ''`;
+//   5. prints a table (ratio = Sightline / reference; below 1 means Sightline is faster) and
+//      writes tests/bench/last-run.json. The temporary folder is removed (unless --keep).
+//
+// Benchmarks are never test assertions: this script only exits non-zero when a step fails or
+// the results disagree.
+import { spawnSync } from 'node:child_process';
+import {
+  closeSync,
+  mkdtempSync,
+  openSync,
+  readFileSync,
+  rmSync,
+  statSync,
+  writeFileSync,
+  writeSync,
+} from 'node:fs';
+import { availableParallelism, cpus, tmpdir, totalmem } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+
+const ROOT = fileURLToPath(new URL('../../', import.meta.url));
+const BENCH = join(ROOT, 'tests/bench');
+const PYTHON = '/usr/bin/python3';
+const K_CONVENTIONAL = 1 / 2.41e-4; // s MHz² pc⁻¹ cm³, Sightline's default constant
+const SEED = 20240611;
+
+// ---------------------------------------------------------------------------------------------
+// options
+
+const argv = process.argv.slice(2);
+const opt = (name, fallback) => {
+  const i = argv.indexOf(name);
+  if (i < 0) return fallback;
+  const v = Number(argv[i + 1]);
+  if (!Number.isInteger(v) || v < 1) fail(`${name} needs a positive integer`);
+  return v;
+};
+const N_VISITS = opt('--visits', 100_000); // 10 arrival times per visit
+const REPEAT = opt('--repeat', 3); // end-to-end runs per side (median reported)
+const COLD_RUNS = opt('--cold', 15); // cold-start runs per side (median reported)
+const KEEP = argv.includes('--keep');
+
+function fail(message) {
+  process.stderr.write(`bench: ${message}\n`);
+  process.exit(1);
+}
+
+// ---------------------------------------------------------------------------------------------
+// helpers
+
+const now = () => process.hrtime.bigint();
+const secondsSince = (t0) => Number(process.hrtime.bigint() - t0) / 1e9;
+const median = (xs) => {
+  const s = [...xs].sort((a, b) => a - b);
+  const m = s.length >> 1;
+  return s.length % 2 ? s[m] : (s[m - 1] + s[m]) / 2;
+};
+const log = (text) => process.stderr.write(`· ${text}\n`);
+
+/** Run a command to completion; returns its stdout and wall-clock seconds. Fails loudly. */
+function run(cmd, args, what) {
+  const t0 = now();
+  const r = spawnSync(cmd, args, {
+    cwd: ROOT,
+    encoding: 'utf8',
+    maxBuffer: 64 * 1024 * 1024,
+    stdio: ['ignore', 'pipe', 'pipe'],
+  });
+  const wallS = secondsSince(t0);
+  if (r.error) fail(`${what}: ${r.error.message}`);
+  if (r.status !== 0) fail(`${what} exited with ${r.status}:\n${r.stderr}`);
+  return { stdout: r.stdout, stderr: r.stderr, wallS };
+}
+
+/**
+ * sfc32 (a small fast counting generator), seeded through splitmix32; Gaussian deviates by
+ * Box–Muller. Written here so the data set depends on nothing but this file and the seed.
+ */
+function seededRandom(seed) {
+  let s = seed >>> 0;
+  const splitmix = () => {
+    s = (s + 0x9e3779b9) >>> 0;
+    let z = s;
+    z = Math.imul(z ^ (z >>> 16), 0x85ebca6b) >>> 0;
+    z = Math.imul(z ^ (z >>> 13), 0xc2b2ae35) >>> 0;
+    return (z ^ (z >>> 16)) >>> 0;
+  };
+  let a = splitmix();
+  let b = splitmix();
+  let c = splitmix();
+  let d = splitmix();
+  const next = () => {
+    const t = (((a + b) >>> 0) + d) >>> 0;
+    d = (d + 1) >>> 0;
+    a = b ^ (b >>> 9);
+    b = (c + (c << 3)) >>> 0;
+    c = ((c << 21) | (c >>> 11)) >>> 0;
+    c = (c + t) >>> 0;
+    return t;
+  };
+  for (let i = 0; i < 12; i++) next();
+  const uniform = () => (next() + 0.5) / 4294967296; // in (0, 1)
+  const normal = () => Math.sqrt(-2 * Math.log(uniform())) * Math.cos(2 * Math.PI * uniform());
+  return { uniform, normal };
+}
+
+// ---------------------------------------------------------------------------------------------
+// 1. data
+
+/**
+ * The synthetic table, in time order (pulsars interleaved, as observations arrive), so both
+ * sides must sort by source and time. Five pulsars BENCH-1..BENCH-5, each visited every 14 days
+ * (pulsar p on day offset 0, 3, 6, 8, 11 of each fortnight, so visits of one pulsar are ≥ 14 days
+ * and consecutive file rows of different pulsars ≥ 2 days apart); 10 arrival times per visit
+ * within 0.1 day, so the default `--gap 0.5` yields exactly 10 rows per visit. Per visit: an
+ * offset (±10 µs) and a ΔDM with 0.001 ≤ |ΔDM| ≤ 0.02 pc cm⁻³ (kept away from zero so relative
+ * DM differences are meaningful); per row: ν uniform in 550–3400 MHz, σ uniform in 0.1–2 µs and
+ *   residual_us = offset + K·ΔDM·1e6/ν² + σ·N(0,1),   K = 1/2.41e-4.
+ * mjd is decimal text with 15 decimals built digit by digit (never printed from a double).
+ */
+function writeTable(path, nVisits) {
+  const rng = seededRandom(SEED);
+  const dayOffset = [0, 3, 6, 8, 11];
+  const fd = openSync(path, 'w');
+  let chunk = 'source,mjd,freq_mhz,err_us,residual_us\n';
+  let rows = 0;
+  for (let v = 0; v < nVisits; v++) {
+    const p = v % 5;
+    const day = 45000 + 14 * Math.floor(v / 5) + dayOffset[p];
+    const start = 0.1 + 0.7 * rng.uniform(); // fraction of the day when the visit starts
+    const offsetUs = 20 * (rng.uniform() - 0.5);
+    const dm = (0.001 + 0.019 * rng.uniform()) * (rng.uniform() < 0.5 ? -1 : 1);
+    for (let j = 0; j < 10; j++) {
+      const frac = start + 0.01 * j + 0.005 * rng.uniform(); // increasing, < 0.9
+      const nano = String(Math.floor(frac * 1e9)).padStart(9, '0');
+      const more = String(Math.floor(rng.uniform() * 1e6)).padStart(6, '0');
+      const freqText = (550 + 2850 * rng.uniform()).toFixed(3);
+      const errText = (0.1 + 1.9 * rng.uniform()).toFixed(4);
+      const freq = Number(freqText);
+      const err = Number(errText);
+      const residual = offsetUs + (K_CONVENTIONAL * dm * 1e6) / (freq * freq) + err * rng.normal();
+      chunk += `BENCH-${p + 1},${day}.${nano}${more},${freqText},${errText},${residual.toFixed(6)}\n`;
+      rows++;
+    }
+    if (chunk.length > 1 << 20) {
+      writeSync(fd, chunk);
+      chunk = '';
+    }
+  }
+  writeSync(fd, chunk);
+  closeSync(fd);
+  return rows;
+}
+
+// ---------------------------------------------------------------------------------------------
+// 3. agreement
+
+/** numpy's per-visit CSV → Map source → visits in time order. */
+function readNumpyVisits(path) {
+  const lines = readFileSync(path, 'utf8').trimEnd().split('\n');
+  const names = lines[0].replace(/^# sources: /, '').split(',');
+  const cols = lines[1].split(',');
+  const bySource = new Map();
+  for (const line of lines.slice(2)) {
+    const f = line.split(',');
+    const rec = Object.fromEntries(cols.map((c, i) => [c, Number(f[i])]));
+    const source = names[rec.source];
+    if (!bySource.has(source)) bySource.set(source, []);
+    bySource.get(source).push(rec);
+  }
+  return bySource;
+}
+
+/** Sightline's dm-fit JSON → Map source → visits in time order. */
+function readSightlineVisits(path) {
+  const fit = JSON.parse(readFileSync(path, 'utf8'));
+  const bySource = new Map();
+  for (const v of fit.visits) {
+    if (!bySource.has(v.source)) bySource.set(v.source, []);
+    bySource.get(v.source).push(v);
+  }
+  for (const list of bySource.values()) list.sort((a, b) => a.mjd_first - b.mjd_first);
+  return { fit, bySource };
+}
+
+/**
+ * Compare every visit. DM must agree to 1e-6 relative (the brief's bar; it is not loosened);
+ * the DM error and χ² are reported alongside. Returns the worst differences seen.
+ */
+function compareVisits(sightline, numpy) {
+  const rel = (a, b) => Math.abs(a - b) / Math.max(Math.abs(a), Math.abs(b), Number.MIN_VALUE);
+  const worst = { dm: 0, dm_err: 0, dm_err_scaled: 0, chi2: 0, offset_us: 0 };
+  const problems = [];
+  let compared = 0;
+  for (const [source, ours] of sightline) {
+    const theirs = numpy.get(source) ?? [];
+    if (ours.length !== theirs.length) {
+      problems.push(`${source}: Sightline has ${ours.length} visits, NumPy ${theirs.length}`);
+      continue;
+    }
+    for (let i = 0; i < ours.length; i++) {
+      const a = ours[i];
+      const b = theirs[i];
+      if (Math.abs(a.mjd_first - b.mjd_first) > 1e-6 || a.n_toas !== b.n_toas) {
+        problems.push(
+          `${source} visit ${i}: different visits (MJD ${a.mjd_first} vs ${b.mjd_first})`,
+        );
+        continue;
+      }
+      if (a.dm === null || Number.isNaN(b.dm)) {
+        if ((a.dm === null) !== Number.isNaN(b.dm)) {
+          problems.push(`${source} visit ${i}: fitted on one side only`);
+        }
+        continue;
+      }
+      compared++;
+      for (const key of Object.keys(worst)) worst[key] = Math.max(worst[key], rel(a[key], b[key]));
+      if (a.dof !== b.dof) problems.push(`${source} visit ${i}: dof ${a.dof} vs ${b.dof}`);
+      if (!(rel(a.dm, b.dm) <= 1e-6) && problems.length < 20) {
+        problems.push(`${source} visit ${i} (MJD ${a.mjd_first}): DM ${a.dm} vs ${b.dm}`);
+      }
+    }
+  }
+  for (const source of numpy.keys()) {
+    if (!sightline.has(source)) problems.push(`${source}: only in the NumPy result`);
+  }
+  return { compared, worst, problems };
+}
+
+// ---------------------------------------------------------------------------------------------
+// main
+
+const machine = {
+  node: process.version,
+  numpy: null, // filled in from the NumPy script's own report
+  python: null,
+  nproc: (() => {
+    const r = spawnSync('nproc', { encoding: 'utf8' });
+    return r.status === 0 ? Number(r.stdout.trim()) : availableParallelism();
+  })(),
+  cpu: cpus()[0]?.model ?? 'unknown',
+  memory_gib: Math.round(totalmem() / 2 ** 30),
+  platform: `${process.platform} ${process.arch}`,
+  // this machine sets these for numpy's correctness; left as found, reported for the record
+  openblas_env: Object.fromEntries(
+    Object.entries(process.env).filter(([k]) => k.startsWith('OPENBLAS_')),
+  ),
+};
+// what was measured: the working tree (the CLI is rebuilt by `npm run bench`), so record the
+// commit and any uncommitted changes to the code under test
+const git = (...args) => {
+  const r = spawnSync('git', args, { cwd: ROOT, encoding: 'utf8' });
+  return r.status === 0 ? r.stdout.trimEnd() : null; // keep porcelain's leading columns
+};
+const code = {
+  commit: git('rev-parse', '--short', 'HEAD'),
+  uncommitted: (git('status', '--porcelain', '--', 'shared', 'cli', 'bin') ?? '')
+    .split('\n')
+    .filter(Boolean)
+    .map((l) => l.slice(3)),
+};
+
+const dir = mkdtempSync(join(tmpdir(), 'sightline-bench-'));
+const cleanup = () => {
+  if (!KEEP) rmSync(dir, { recursive: true, force: true });
+};
+process.on('exit', cleanup);
+
+const toas = join(dir, 'toas.csv');
+let t0 = now();
+const nRows = writeTable(toas, N_VISITS);
+log(
+  `wrote ${nRows} rows in ${N_VISITS} visits (${(statSync(toas).size / 1e6).toFixed(1)} MB) to ${toas} in ${secondsSince(t0).toFixed(1)} s`,
+);
+
+// --- NumPy: one run for the in-process stage timings (fit best of 3) and its results file
+const numpyOut = join(dir, 'numpy-visits.csv');
+log('NumPy: load, fit (best of 3), write');
+const numpyReport = JSON.parse(
+  run(PYTHON, [join(BENCH, 'dm_fit_numpy.py'), toas, '--out', numpyOut, '--repeat', '3'], 'numpy')
+    .stdout,
+);
+machine.numpy = numpyReport.numpy_version;
+machine.python = numpyReport.python_version;
+
+// --- Sightline fit only, as the CLI ships: fit-only.ts bundled by esbuild with the CLI's own
+// settings, run by plain node. (Under tsx every function is wrapped by esbuild's keepNames
+// helper, which the shipped bundle is not; that variant is reported for information.)
+const { build } = await import('esbuild');
+const fitOnlyJs = join(dir, 'fit-only.mjs');
+await build({
+  entryPoints: [join(BENCH, 'fit-only.ts')],
+  outfile: fitOnlyJs,
+  bundle: true,
+  platform: 'node',
+  target: 'node20',
+  format: 'esm',
+  logLevel: 'warning',
+  banner: {
+    js: "import { createRequire as __createRequire } from 'node:module'; const require = __createRequire(import.meta.url);",
+  },
+});
+log('Sightline: fit only (bundled like the CLI, best of 3)');
+const fitOnly = JSON.parse(run(process.execPath, [fitOnlyJs, toas], 'fit-only (bundled)').stdout);
+log('Sightline: fit only (npx tsx, best of 3)');
+const fitOnlyTsx = JSON.parse(
+  run('npx', ['tsx', join(BENCH, 'fit-only.ts'), toas], 'fit-only (tsx)').stdout,
+);
+
+// --- end to end, both as processes, alternating so drift hits both sides alike
+const sightlineOut = join(dir, 'sightline-fit.json');
+const e2e = { sightline: [], numpy: [] };
+for (let r = 0; r < REPEAT; r++) {
+  log(`end to end, run ${r + 1}/${REPEAT}`);
+  rmSync(sightlineOut, { force: true });
+  e2e.sightline.push(
+    run(
+      process.execPath,
+      ['bin/sightline', 'dm', 'fit', toas, '--json', '--out', sightlineOut, '--quiet'],
+      'sightline dm fit',
+    ).wallS,
+  );
+  e2e.numpy.push(
+    run(PYTHON, [join(BENCH, 'dm_fit_numpy.py'), toas, '--out', numpyOut], 'numpy').wallS,
+  );
+}
+
+// --- agreement, every visit
+log('comparing every visit');
+const { fit: sightlineFit, bySource } = readSightlineVisits(sightlineOut);
+const agreement = compareVisits(bySource, readNumpyVisits(numpyOut));
+const firstDms = numpyReport.first_dms.map((b) => {
+  const a = bySource.get(b.source)?.find((v) => Math.abs(v.mjd_first - b.mjd_first) < 1e-6);
+  return { source: b.source, mjd_first: b.mjd_first, sightline: a?.dm ?? null, numpy: b.dm };
+});
+
+// --- cold start, alternating, one unrecorded warm-up each (file cache)
+log(`cold start, ${COLD_RUNS} runs each`);
+const delayArgs = ['bin/sightline', 'delay', '--dm', '100', '--freq', '1400'];
+run(process.execPath, delayArgs, 'sightline delay');
+run(process.execPath, ['-e', ''], "node -e ''");
+const cold = { sightline: [], node: [] };
+for (let r = 0; r < COLD_RUNS; r++) {
+  cold.sightline.push(run(process.execPath, delayArgs, 'sightline delay').wallS);
+  cold.node.push(run(process.execPath, ['-e', ''], "node -e ''").wallS);
+}
+
+// ---------------------------------------------------------------------------------------------
+// 5. report
+
+const measurements = [
+  {
+    name: 'DM fit, fit only',
+    what: 'fitDmVisits on an in-memory table (bundled like the CLI) vs the NumPy fit stage (sort, group, normal equations); best of 3 each',
+    sightline_s: fitOnly.fit_s,
+    reference: 'numpy',
+    reference_s: numpyReport.fit_s,
+  },
+  {
+    name: 'DM fit, fit only (tsx)',
+    what: 'the same fit-only script run by `npx tsx` (keepNames wrappers: not how the CLI ships); information only',
+    sightline_s: fitOnlyTsx.fit_s,
+    reference: 'numpy',
+    reference_s: numpyReport.fit_s,
+  },
+  {
+    name: 'DM fit, end to end',
+    what: `\`sightline dm fit FILE --json --out OUT --quiet\` vs \`python3 dm_fit_numpy.py FILE --out OUT\`: whole processes (start, read, fit, write), wall clock, median of ${REPEAT}`,
+    sightline_s: median(e2e.sightline),
+    reference: 'numpy',
+    reference_s: median(e2e.numpy),
+  },
+  {
+    name: 'cold start',
+    what: `\`sightline delay --dm 100 --freq 1400\` vs \`node -e ''\`, median of ${COLD_RUNS}`,
+    sightline_s: median(cold.sightline),
+    reference: 'bare node',
+    reference_s: median(cold.node),
+  },
+].map((m) => ({ ...m, ratio: m.sightline_s / m.reference_s }));
+
+const pad = (s, n) => String(s).padEnd(n);
+const lpad = (s, n) => String(s).padStart(n);
+const secs = (s) => (s < 1 ? `${(s * 1e3).toFixed(1)} ms` : `${s.toFixed(3)} s`);
+let out =
+  '\nSightline benchmark (ratio = Sightline / reference; < 1 means Sightline is faster)\n\n';
+out += `${pad('measurement', 26)}${lpad('Sightline', 12)}${lpad('reference', 22)}${lpad('ratio', 9)}\n`;
+out += `${'-'.repeat(69)}\n`;
+for (const m of measurements) {
+  const ref = `${secs(m.reference_s)} (${m.reference})`;
+  out += `${pad(m.name, 26)}${lpad(secs(m.sightline_s), 12)}${lpad(ref, 22)}${lpad(m.ratio.toFixed(2), 9)}\n`;
+}
+out += '\nwhat each number is:\n';
+for (const m of measurements) out += `  ${m.name}: ${m.what}\n`;
+out += '\nstage timings for context (inside the processes):\n';
+out += `  NumPy: load ${secs(numpyReport.load_s)} (np.loadtxt), fit ${secs(numpyReport.fit_s)} (best; runs ${numpyReport.fit_runs_s.map(secs).join(', ')}), write ${secs(numpyReport.write_s)}\n`;
+out += `  Sightline fit-only script: load ${secs(fitOnly.load_s)} (csv-parse/sync + row validation into a ToaTable), fit runs ${fitOnly.fit_runs_s.map(secs).join(', ')}\n`;
+out += `  end-to-end runs: Sightline ${e2e.sightline.map(secs).join(', ')}; NumPy ${e2e.numpy.map(secs).join(', ')}\n`;
+out += `  data: ${nRows} rows, ${N_VISITS} visits; Sightline fitted ${sightlineFit.summary.n_fitted}/${sightlineFit.summary.n_visits}, NumPy ${numpyReport.n_visits - numpyReport.n_unconstrained}/${numpyReport.n_visits}\n`;
+out += `\nagreement over ${agreement.compared} fitted visits (largest relative difference):\n`;
+out += `  DM ${agreement.worst.dm.toExponential(2)} (required ≤ 1e-6), DM error ${agreement.worst.dm_err.toExponential(2)}, scaled error ${agreement.worst.dm_err_scaled.toExponential(2)}, χ² ${agreement.worst.chi2.toExponential(2)}, offset ${agreement.worst.offset_us.toExponential(2)}\n`;
+out += '  first visits (source, MJD, Sightline DM, NumPy DM):\n';
+for (const d of firstDms) {
+  out += `    ${d.source} ${d.mjd_first.toFixed(6)} ${d.sightline} ${d.numpy}\n`;
+}
+for (const p of agreement.problems) out += `  DISAGREES: ${p}\n`;
+out += `\ncode: commit ${code.commit}${code.uncommitted.length ? ` + uncommitted changes in ${code.uncommitted.join(', ')}` : ' (clean)'}\n`;
+out += `machine: node ${machine.node}, numpy ${machine.numpy} (python ${machine.python}), nproc ${machine.nproc}, ${machine.cpu}, ${machine.memory_gib} GiB, ${machine.platform}\n`;
+const blas = Object.entries(machine.openblas_env);
+out += blas.length
+  ? `OpenBLAS settings in the environment (left unchanged): ${blas.map(([k, v]) => `${k}=${v}`).join(' ')}\n`
+  : 'no OPENBLAS_* settings in the environment\n';
+process.stdout.write(out);
+
+const result = {
+  created_utc: new Date().toISOString(),
+  code,
+  machine,
+  data: { rows: nRows, visits: N_VISITS, seed: SEED, gap_days: 0.5 },
+  measurements,
+  runs: {
+    end_to_end_s: e2e,
+    cold_start_s: cold,
+    numpy: numpyReport,
+    fit_only: fitOnly,
+    fit_only_tsx: fitOnlyTsx,
+  },
+  agreement: { ...agreement, first_dms: firstDms },
+};
+let text = JSON.stringify(result, null, 2) + '\n';
+try {
+  // keep the file as `prettier --check` (npm run lint) wants it
+  const prettier = await import('prettier');
+  text = await prettier.format(text, { parser: 'json', printWidth: 100 });
+} catch {
+  // prettier missing: plain JSON is still valid
+}
+writeFileSync(join(BENCH, 'last-run.json'), text);
+log(`results written to tests/bench/last-run.json${KEEP ? `; data kept in ${dir}` : ''}`);
+if (agreement.problems.length) fail('Sightline and NumPy disagree (see above)');
