@@ -59,12 +59,6 @@ function jsonRow(
  * the corrected residual. K is the series' own constant, so K·ΔDM is the delay that was measured.
  * Two passes: the first validates every row and the series coverage, so bad input writes nothing.
  */
-/**
- * Corrected arrival times: every input column unchanged, plus dm_correction_us = −K·ΔDM(t)/ν²
- * (µs, the amount added), the corrected epoch as exact decimal text, and for residual tables
- * the corrected residual. K is the series' own constant, so K·ΔDM is the delay that was measured.
- * Two passes: the first validates every row and the series coverage, so bad input writes nothing.
- */
 export async function runCorrect(file: string, o: CorrectOptions): Promise<void> {
   if (o.format || o.json)
     throw usageError("toas correct writes the input file's own layout; drop --format/--json");

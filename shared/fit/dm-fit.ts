@@ -59,8 +59,16 @@ export function fitDmVisits(table: ToaTable, opts: DmFitOptions): VisitFit[] {
 }
 
 const modelNames = new Map<string, string>();
+/** A table without a receiver column has one unnamed offset. */
+const NO_RECEIVERS = [''];
+
+const plainModelNames: string[] = [];
 
 function describeModel(receivers: string[], evolution: number, residual: boolean): string {
+  if (receivers === NO_RECEIVERS) {
+    const slot = evolution * 2 + (residual ? 1 : 0);
+    return (plainModelNames[slot] ??= modelName(receivers, evolution, residual));
+  }
   const key = `${receivers.join('\u0000')}|${evolution}|${residual}`;
   let name = modelNames.get(key);
   if (name === undefined) {
@@ -70,7 +78,8 @@ function describeModel(receivers: string[], evolution: number, residual: boolean
   return name;
 }
 
-function modelName(receivers: string[], evolution: number, residual: boolean): string {
+function modelName(names: string[], evolution: number, residual: boolean): string {
+  const receivers = names.filter(Boolean);
   const offset = receivers.length > 1 ? `offsets per receiver (${receivers.join(', ')})` : 'offset';
   const evo = evolution > 0 ? ` + profile evolution (degree ${evolution} in log10 ν/GHz)` : '';
   return `${residual ? 'residual' : 'arrival time'} = ${offset} + K·DM/ν²${evo}`;
@@ -102,40 +111,28 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
   const nFreqs = freqsOf(active);
   const hasReceivers = table.header.hasReceiver;
   const receiverNames = (active: Uint8Array) => {
-    if (!hasReceivers) return [''];
+    if (!hasReceivers) return NO_RECEIVERS;
     const ids = new Set<number>();
     for (let j = 0; j < n; j++) if (active[j]) ids.add(table.receiverId(rows[j]));
     return [...ids].sort((a, b) => a - b).map((id) => table.receivers[id]);
   };
-  const base: VisitFit = {
+  const head: VisitHead = {
     source,
     mjd: round(mjd, 1e-7),
-    mjd_first: round(table.mjd(rows[0]), 1e-7, Math.floor),
-    mjd_last: round(table.mjd(rows[n - 1]), 1e-7, Math.ceil),
-    n_toas: n,
-    n_freqs: nFreqs,
-    freq_min_mhz: fmin,
-    freq_max_mhz: fmax,
-    status: 'unconstrained',
-    dm: null,
-    dm_err: null,
-    dm_err_scaled: null,
-    dm_kind: residualMode ? 'offset' : 'absolute',
-    offset_us: null,
-    chi2: null,
-    dof: null,
-    reduced_chi2: null,
-    chi2_p_value: null,
-    flagged_rows: [],
-    warnings: [],
-    model: '',
+    mjdFirst: round(table.mjd(rows[0]), 1e-7, Math.floor),
+    mjdLast: round(table.mjd(rows[n - 1]), 1e-7, Math.ceil),
+    n,
+    nFreqs,
+    fmin,
+    fmax,
+    dmKind: residualMode ? 'offset' : 'absolute',
   };
+  const warnings: string[] = [];
+  const unconstrained = (model: string): VisitFit =>
+    visitRecord(head, undefined, flaggedRows(table, rows, active), warnings, model);
   if (nFreqs < 2) {
-    base.model = describeModel(receiverNames(active).filter(Boolean), opts.evolution, residualMode);
-    base.warnings.push(
-      'fewer than two distinct frequencies: DM is not constrained, visit not fitted',
-    );
-    return base;
+    warnings.push('fewer than two distinct frequencies: DM is not constrained, visit not fitted');
+    return unconstrained(describeModel(receiverNames(active), opts.evolution, residualMode));
   }
 
   // Data: residuals as given, or arrival-time offsets from the highest-frequency arrival.
@@ -198,14 +195,12 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
         : weightedLeastSquares(design, ya.subarray(0, m), sa.subarray(0, m), m, p);
     } catch (e) {
       if (!(e instanceof SingularDesignError)) throw e;
-      base.warnings.push(
+      warnings.push(
         m < p
           ? `${m} arrival times cannot fix ${p} parameters: visit not fitted`
           : 'DM cannot be separated from the receiver offsets or evolution terms (does each receiver cover only one frequency?): visit not fitted',
       );
-      base.flagged_rows = flaggedRows(table, rows, active);
-      base.model = describeModel(receivers.filter(Boolean), opts.evolution, residualMode);
-      return base;
+      return unconstrained(describeModel(receivers, opts.evolution, residualMode));
     }
     if (opts.clipSigma === undefined || fit.dof < 2) break;
     const z = new Float64Array(m);
@@ -223,24 +218,27 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
       break;
     }
   }
-  if (!fit) return base;
   const nOff = receivers.length;
   const dm = fit.params[nOff];
   const dmErr = Math.sqrt(fit.cov[nOff * p + nOff]);
   const red = fit.dof > 0 ? fit.chi2 / fit.dof : null;
-  // fill in the visit record in place (no copies: a run may hold 10⁵ of them)
-  const out = base;
-  out.status = 'fitted';
-  out.dm = dm;
-  out.dm_err = dmErr;
-  out.dm_err_scaled = red !== null && red > 1 ? dmErr * Math.sqrt(red) : dmErr;
-  out.offset_us = fit.params[0];
-  out.chi2 = fit.chi2;
-  out.dof = fit.dof;
-  out.reduced_chi2 = red;
-  out.chi2_p_value = fit.dof > 0 ? chi2Sf(fit.chi2, fit.dof) : null;
-  out.flagged_rows = flaggedRows(table, rows, active);
-  out.model = describeModel(receivers.filter(Boolean), opts.evolution, residualMode);
+  const chi2P = fit.dof > 0 ? chi2Sf(fit.chi2, fit.dof) : null;
+  const out = visitRecord(
+    head,
+    {
+      dm,
+      dmErr,
+      dmErrScaled: red !== null && red > 1 ? dmErr * Math.sqrt(red) : dmErr,
+      offsetUs: fit.params[0],
+      chi2: fit.chi2,
+      dof: fit.dof,
+      reducedChi2: red,
+      chi2P,
+    },
+    flaggedRows(table, rows, active),
+    warnings,
+    describeModel(receivers, opts.evolution, residualMode),
+  );
   if (hasReceivers && nOff > 1) {
     out.receiver_offsets_us = Object.fromEntries(receivers.map((r, i) => [r, fit.params[i]]));
   }
@@ -289,6 +287,62 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
     }
   }
   return out;
+}
+
+interface VisitHead {
+  source: string;
+  mjd: number;
+  mjdFirst: number;
+  mjdLast: number;
+  n: number;
+  nFreqs: number;
+  fmin: number;
+  fmax: number;
+  dmKind: 'absolute' | 'offset';
+}
+
+interface FitPart {
+  dm: number;
+  dmErr: number;
+  dmErrScaled: number;
+  offsetUs: number;
+  chi2: number;
+  dof: number;
+  reducedChi2: number | null;
+  chi2P: number | null;
+}
+
+/** The visit record, built in one literal (one shape for fitted and unconstrained visits). */
+function visitRecord(
+  h: VisitHead,
+  f: FitPart | undefined,
+  flagged: number[],
+  warnings: string[],
+  model: string,
+): VisitFit {
+  return {
+    source: h.source,
+    mjd: h.mjd,
+    mjd_first: h.mjdFirst,
+    mjd_last: h.mjdLast,
+    n_toas: h.n,
+    n_freqs: h.nFreqs,
+    freq_min_mhz: h.fmin,
+    freq_max_mhz: h.fmax,
+    status: f ? 'fitted' : 'unconstrained',
+    dm: f ? f.dm : null,
+    dm_err: f ? f.dmErr : null,
+    dm_err_scaled: f ? f.dmErrScaled : null,
+    dm_kind: h.dmKind,
+    offset_us: f ? f.offsetUs : null,
+    chi2: f ? f.chi2 : null,
+    dof: f ? f.dof : null,
+    reduced_chi2: f ? f.reducedChi2 : null,
+    chi2_p_value: f ? f.chi2P : null,
+    flagged_rows: flagged,
+    warnings,
+    model,
+  };
 }
 
 let distinctScratch = new Float64Array(64);
