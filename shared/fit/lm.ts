@@ -109,15 +109,14 @@ export function lmFit(
   }
   const dof = n - p;
   const scale = dof > 0 ? chi2 / dof : 1;
-  let cov = new Array<number>(p * p).fill(NaN);
-  let singular = false;
+  let cov: number[];
   try {
     const inv = inverse(jtj);
     cov = Array.from({ length: p * p }, (_, k) => inv.get(Math.floor(k / p), k % p) * scale);
-    singular = cov.some((v, k) => k % (p + 1) === 0 && !(v >= 0));
   } catch {
-    singular = true;
+    cov = new Array<number>(p * p).fill(NaN);
   }
+  const singular = cov.some((v, k) => k % (p + 1) === 0 && !(v >= 0));
   const errors = Array.from({ length: p }, (_, j) => Math.sqrt(cov[j * p + j]));
   const atBound = params.map(
     (v, j) =>
