@@ -15,6 +15,8 @@ const common = {
   format: 'esm',
   sourcemap: true,
   logLevel: 'warning',
+  // native addon: loaded from node_modules at run time
+  external: ['@napi-rs/canvas'],
   define: { __SIGHTLINE_VERSION__: JSON.stringify(pkg.version) },
   banner: {
     js: "import { createRequire as __createRequire } from 'node:module'; const require = __createRequire(import.meta.url);",

@@ -6,6 +6,7 @@ import { solarCommand } from './commands/solar.js';
 import { dmCommand } from './commands/dm.js';
 import { toasCommand } from './commands/toas.js';
 import { demoCommand } from './commands/demo.js';
+import { scatterCommand } from './commands/scatter.js';
 
 export function buildProgram(): Command {
   const program = new Command('sightline')
@@ -16,7 +17,14 @@ export function buildProgram(): Command {
       'after',
       '\nExit codes: 0 success · 1 a check failed · 2 usage error or invalid input · 3 I/O failure\nMachine output goes to stdout; progress and notes to stderr.',
     );
-  for (const c of [delayCommand(), solarCommand(), dmCommand(), toasCommand(), demoCommand()])
+  for (const c of [
+    delayCommand(),
+    solarCommand(),
+    dmCommand(),
+    toasCommand(),
+    scatterCommand(),
+    demoCommand(),
+  ])
     program.addCommand(c);
   const exitOverrideAll = (c: Command) => {
     c.exitOverride();

@@ -79,3 +79,22 @@ export async function writeOutput(
     throw e;
   }
 }
+
+/** Write bytes to a file atomically: a temporary file beside it, renamed into place. */
+export async function writeFileAtomic(path: string, data: Uint8Array | string): Promise<void> {
+  const { writeFileSync } = await import('node:fs');
+  const dir = dirname(path);
+  try {
+    mkdirSync(dir, { recursive: true });
+  } catch (e) {
+    throw ioFailure(`${dir}: cannot create the output folder (${(e as Error).message})`);
+  }
+  const temp = join(dir, `.${basename(path)}.${process.pid}.tmp`);
+  try {
+    writeFileSync(temp, data, { flag: 'wx' });
+    renameSync(temp, path);
+  } catch (e) {
+    rmSync(temp, { force: true });
+    throw ioFailure(`${path}: ${(e as Error).message}`);
+  }
+}

@@ -2,6 +2,7 @@ import { existsSync, mkdirSync, readdirSync, renameSync, rmSync, writeFileSync }
 import { dirname, join, resolve } from 'node:path';
 import { stringify } from 'csv-stringify/sync';
 import { simulateDemo } from '../../shared/sim/demo.js';
+import { writeNpy } from '../../shared/profiles/npy-write.js';
 import { DEMO_GROUP, DEMO_OBSERVATORY, RECEIVERS } from '../../shared/sim/scenario.js';
 import { SOFTWARE, withProgress, type CommonOptions } from '../common.js';
 import { usageError } from '../errors.js';
@@ -52,6 +53,20 @@ export function writeDemo(dir: string, seed: number, force = false): string[] {
   const columns = ['source', 'mjd', 'freq_mhz', 'err_us', 'residual_us', 'receiver'] as const;
   data.sets.forEach((set, i) => {
     const name = data.pulsars[i].source;
+    mkdirSync(join(temp, 'profiles', name), { recursive: true });
+    for (const prof of set.profiles) {
+      const rel = `profiles/${name}/${name}_${prof.mjd}.npy`;
+      writeFileSync(join(temp, rel), writeNpy(prof.bins, [prof.freqs_mhz.length, prof.nbin]));
+      const sidecar = {
+        source: prof.source,
+        mjd: prof.mjd,
+        period_s: prof.period_s,
+        dm: prof.dm,
+        freqs_mhz: prof.freqs_mhz,
+      };
+      writeFileSync(join(temp, `${rel}.json`), JSON.stringify(sidecar) + '\n');
+    }
+    files.push(join(dir, 'profiles', name) + '/');
     put(
       `toas/${name}.csv`,
       stringify([columns as unknown as string[], ...set.toas.map((t) => columns.map((c) => t[c]))]),

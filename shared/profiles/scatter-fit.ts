@@ -27,6 +27,8 @@ export interface BandFit {
   snr: number;
   iterations: number;
   warnings: string[];
+  /** for upper limits: the τ (bins) where χ² has risen by 4 with the other parameters refitted */
+  tauUpperBins?: number;
   /** the best-fit model, bins */
   model: Float64Array;
 }
@@ -37,6 +39,45 @@ function narrowestWidth(model: ProfileModel, params: number[]): number {
   let w = Infinity;
   for (let j = 4; j < params.length; j += 3) w = Math.min(w, params[j]);
   return w;
+}
+
+/**
+ * A one-sided 2σ upper limit on τ from the profile likelihood: hold τ at increasing values,
+ * refit everything else, and find where χ² has risen by 4 (scaled by χ²_red when above 1).
+ * Near τ = 0 the curvature error is useless because τ and the pulse centre are degenerate.
+ */
+function profileUpperLimit(
+  model: ProfileModel,
+  y: ArrayLike<number>,
+  sigma: Float64Array,
+  best: LmResult,
+  min: number[],
+  max: number[],
+): number {
+  const ti = model.tauIndex;
+  const red = best.dof > 0 ? Math.max(1, best.chi2 / best.dof) : 1;
+  const target = best.chi2 + 4 * red;
+  let prevTau = best.params[ti];
+  let prevChi2 = best.chi2;
+  let params = best.params.slice();
+  let tau = Math.max(prevTau * 1.5, 0.05);
+  for (let k = 0; k < 60 && tau <= max[ti]; k++) {
+    const lo = min.slice();
+    const hi = max.slice();
+    lo[ti] = tau;
+    hi[ti] = tau;
+    params[ti] = tau;
+    const fit = fitWith(model, y, sigma, params, lo, hi);
+    if (fit.chi2 >= target) {
+      const f = (target - prevChi2) / (fit.chi2 - prevChi2);
+      return prevTau + Math.min(1, Math.max(0, f)) * (tau - prevTau);
+    }
+    params = fit.params;
+    prevTau = tau;
+    prevChi2 = Math.max(prevChi2, fit.chi2);
+    tau *= 1.4;
+  }
+  return max[ti];
 }
 
 /** Smallest τ the fit may take, bins (a screen this weak is indistinguishable from none). */
@@ -76,9 +117,10 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
   const shape = pulseShape(bins);
   const warnings: string[] = [];
   const tauMax = 50 * n;
-  let best: { fit: LmResult; model: ProfileModel } | undefined;
-  const consider = (model: ProfileModel, fit: LmResult) => {
-    if (Number.isFinite(fit.chi2) && (!best || fit.chi2 < best.fit.chi2)) best = { fit, model };
+  let best: { fit: LmResult; model: ProfileModel; min: number[]; max: number[] } | undefined;
+  const consider = (model: ProfileModel, fit: LmResult, min: number[], max: number[]) => {
+    if (Number.isFinite(fit.chi2) && (!best || fit.chi2 < best.fit.chi2))
+      best = { fit, model, min, max };
   };
   // the estimate first; shorter and longer starting τ only when that fit is poor
   const tauStarts = [
@@ -102,16 +144,13 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
     const shift0 = shape.peakBin - tShape.peakBin;
     for (const tau of tauStarts) {
       if (good()) break;
+      const min = [-Infinity, TAU_MIN_BINS, 0, shift0 - n / 2];
+      const max = [Infinity, tauMax, Infinity, shift0 + n / 2];
       consider(
         model,
-        fitWith(
-          model,
-          bins,
-          sigma,
-          [shape.baseline, tau, scale0, shift0],
-          [-Infinity, TAU_MIN_BINS, 0, shift0 - n / 2],
-          [Infinity, tauMax, Infinity, shift0 + n / 2],
-        ),
+        fitWith(model, bins, sigma, [shape.baseline, tau, scale0, shift0], min, max),
+        min,
+        max,
       );
     }
   } else {
@@ -128,7 +167,7 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
       const b = bounds(1);
       const fit = fitWith(one, bins, sigma, s, b.min, b.max);
       if (!best || fit.chi2 < best.fit.chi2) {
-        best = { fit, model: one };
+        best = { fit, model: one, min: b.min, max: b.max };
         start = fit.params;
       }
     }
@@ -146,11 +185,11 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
       const s = [...start, Math.max(resid[at], noise) * shape.sigma * 2.5066, at, shape.sigma];
       const b = bounds(c);
       const fit = fitWith(model, bins, sigma, s, b.min, b.max);
-      best = { fit, model };
+      best = { fit, model, min: b.min, max: b.max };
       start = fit.params;
     }
   }
-  const { fit, model } = best!;
+  const { fit, model, min, max } = best!;
   const out = new Float64Array(n);
   model.evaluate(fit.params, out);
   const tau = fit.params[model.tauIndex];
@@ -169,7 +208,7 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
   ) {
     status = 'upper_limit';
     warnings.push(
-      'τ is not constrained (not distinguishable from zero, or far below the pulse width): reported as an upper limit (τ + 2σ)',
+      'τ is not constrained (not distinguishable from zero, or far below the pulse width): reported as a 2σ upper limit',
     );
   }
   if (fit.atBound.some((b, j) => b && j !== model.tauIndex && Number.isFinite(fit.params[j]))) {
@@ -177,8 +216,11 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
       `parameter(s) at a bound: ${model.names.filter((_, j) => fit.atBound[j] && j !== model.tauIndex).join(', ')}`,
     );
   }
+  const tauUpperBins =
+    status === 'upper_limit' ? profileUpperLimit(model, bins, sigma, fit, min, max) : undefined;
   return {
     status,
+    tauUpperBins,
     names: model.names,
     params: fit.params,
     errors: fit.errors,

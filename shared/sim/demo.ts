@@ -1,4 +1,5 @@
 import { createRng, type Rng } from './random.js';
+import { simulateProfiles } from './profiles.js';
 import {
   DEMO_CADENCE_DAYS,
   DEMO_MJD_END,
@@ -25,7 +26,19 @@ export interface DemoToa {
 
 export interface DemoTruth {
   source: string;
-  visits: Array<{ mjd: number; ddm_ism: number; dm_solar: number }>;
+  alpha: number;
+  visits: Array<{ mjd: number; ddm_ism: number; dm_solar: number; tau_1ghz_us: number }>;
+}
+
+/** One visit's simulated profiles: bands × bins, row-major. */
+export interface DemoProfiles {
+  source: string;
+  mjd: string;
+  period_s: number;
+  dm: number;
+  freqs_mhz: number[];
+  nbin: number;
+  bins: Float32Array;
 }
 
 /** How each invented pulsar's DM wanders (pc cm⁻³), and its timing precision per receiver. */
@@ -35,25 +48,55 @@ interface Behaviour {
   annual?: number;
   lens?: { mjd: number; sigmaDays: number; peak: number };
   errUs: Record<string, number>;
+  /** scattering: τ at 1 GHz (µs), its index α, a slow fractional wander; the lens multiplies τ */
+  scatter: { tau1GhzUs: number; alpha: number; wander: number; lensBoost?: number };
+  /** a second, weaker profile component (area fraction, offset in phase) */
+  secondComponent?: { fraction: number; offset: number };
 }
 
 const BEHAVIOUR: Record<string, Behaviour> = {
-  'SBP-A': { redRms: 6e-5, errUs: { low: 0.3, mid: 0.12, high: 0.25 } },
-  'SBP-B': { redRms: 3e-5, errUs: { low: 0.25, mid: 0.1, high: 0.15 } },
+  'SBP-A': {
+    redRms: 6e-5,
+    errUs: { low: 0.3, mid: 0.12, high: 0.25 },
+    scatter: { tau1GhzUs: 0.01, alpha: 4.4, wander: 0.2 },
+  },
+  'SBP-B': {
+    redRms: 3e-5,
+    errUs: { low: 0.25, mid: 0.1, high: 0.15 },
+    scatter: { tau1GhzUs: 0.05, alpha: 4.4, wander: 0.2 },
+  },
   'SBP-C': {
     redRms: 1.5e-4,
     trendPerYear: 6e-4,
     annual: 3e-4,
     errUs: { low: 0.9, mid: 0.4, high: 0.7 },
+    scatter: { tau1GhzUs: 0.6, alpha: 4.4, wander: 0.2 },
+    secondComponent: { fraction: 0.35, offset: 0.045 },
   },
-  'SBP-D': { redRms: 8e-4, errUs: { low: 4, mid: 1.2, high: 1.5 } },
+  'SBP-D': {
+    redRms: 8e-4,
+    errUs: { low: 4, mid: 1.2, high: 1.5 },
+    scatter: { tau1GhzUs: 60, alpha: 4.1, wander: 0.25 },
+  },
   'SBP-E': {
     redRms: 2e-4,
     lens: { mjd: 60860, sigmaDays: 13, peak: 4e-3 },
     errUs: { low: 1.2, mid: 0.6, high: 0.9 },
+    scatter: { tau1GhzUs: 0.2, alpha: 4.4, wander: 0.2, lensBoost: 40 },
   },
-  'SBP-F': { redRms: 2e-3, errUs: { low: 8, mid: 2.5, high: 2 } },
+  'SBP-F': {
+    redRms: 2e-3,
+    errUs: { low: 8, mid: 2.5, high: 2 },
+    scatter: { tau1GhzUs: 600, alpha: 4.4, wander: 0.2 },
+  },
 };
+
+/** Profile bins and sub-bands per receiver in the simulated profile cubes. */
+const PROFILE_NBIN = 256;
+const PROFILE_SUBBANDS: Record<string, number> = { low: 4, mid: 3, high: 2 };
+/** intrinsic pulse width σ as a fraction of the period, and peak S/N at 1 GHz */
+const PULSE_WIDTH = 0.012;
+const PEAK_SNR_1GHZ = 60;
 
 const RECEIVER_OFFSET_US: Record<string, number> = { low: 0.8, mid: 0, high: -0.5 };
 const SUBBANDS: Record<string, number> = { low: 4, mid: 6, high: 4 };
@@ -99,13 +142,26 @@ function hash(s: string): number {
 export function simulateDemoPulsar(
   p: DemoPulsar,
   seed: number,
-): { toas: DemoToa[]; truth: DemoTruth } {
+): { toas: DemoToa[]; truth: DemoTruth; profiles: DemoProfiles[] } {
   const k = dispersionConstant('conventional');
   const rng = createRng(seed * 7919 + hash(p.source));
+  // profiles draw from their own stream, so the arrival times do not depend on them
+  const profileRng = createRng(seed * 104729 + hash(p.source));
   const ism = demoIsmDm(p, seed);
   const b = BEHAVIOUR[p.source];
+  const sc = b.scatter;
   const toas: DemoToa[] = [];
-  const truth: DemoTruth = { source: p.source, visits: [] };
+  const profiles: DemoProfiles[] = [];
+  const truth: DemoTruth = { source: p.source, alpha: sc.alpha, visits: [] };
+  const wanderPhase = 2 * Math.PI * profileRng.uniform();
+  const tauAt = (mjd: number) => {
+    let tau =
+      sc.tau1GhzUs *
+      (1 + sc.wander * Math.sin((2 * Math.PI * (mjd - DEMO_MJD_START)) / 400 + wanderPhase));
+    if (b.lens && sc.lensBoost)
+      tau *= 1 + sc.lensBoost * Math.exp(-0.5 * ((mjd - b.lens.mjd) / b.lens.sigmaDays) ** 2);
+    return tau;
+  };
   for (
     let t = DEMO_MJD_START + rng.uniform() * 3;
     t < DEMO_MJD_END;
@@ -114,10 +170,15 @@ export function simulateDemoPulsar(
     const start = Math.floor(t) + 0.1 + rng.uniform() * 0.6;
     const solar = solarWindDmAt(DEMO_SOLAR_N0, p.ra_deg, p.dec_deg, start).dm;
     const ddm = ism(start);
-    truth.visits.push({ mjd: start, ddm_ism: ddm, dm_solar: solar });
+    const tau1 = tauAt(start);
+    truth.visits.push({ mjd: start, ddm_ism: ddm, dm_solar: solar, tau_1ghz_us: tau1 });
+    const profileFreqs: number[] = [];
     RECEIVERS.forEach((r, ri) => {
       if (r.name === 'low' && rng.uniform() < 0.1) return;
       if (r.name === 'high' && rng.uniform() < 0.4) return;
+      const nprof = PROFILE_SUBBANDS[r.name];
+      for (let s = 0; s < nprof; s++)
+        profileFreqs.push(r.loMhz + ((s + 0.5) * (r.hiMhz - r.loMhz)) / nprof);
       const nsub = SUBBANDS[r.name];
       const width = (r.hiMhz - r.loMhz) / nsub;
       for (let s = 0; s < nsub; s++) {
@@ -130,7 +191,11 @@ export function simulateDemoPulsar(
           sec: Math.floor(secOfDay),
           frac: secOfDay - Math.floor(secOfDay),
         });
-        const signal = RECEIVER_OFFSET_US[r.name] + (k.value * 1e6 * (ddm + solar)) / (freq * freq);
+        // a template-matched arrival time moves by about the change of τ (its mean delay);
+        // the mean τ itself is absorbed by the template and the timing model
+        const scatterUs = (tau1 - sc.tau1GhzUs) * (freq / 1000) ** -sc.alpha;
+        const signal =
+          RECEIVER_OFFSET_US[r.name] + (k.value * 1e6 * (ddm + solar)) / (freq * freq) + scatterUs;
         toas.push({
           source: p.source,
           mjd: formatMjd(epoch, 15),
@@ -141,15 +206,64 @@ export function simulateDemoPulsar(
         });
       }
     });
+    profiles.push(demoProfiles(p, b, start, tau1, profileFreqs, profileRng));
   }
-  return { toas, truth };
+  return { toas, truth, profiles };
+}
+
+function demoProfiles(
+  p: DemoPulsar,
+  b: Behaviour,
+  mjd: number,
+  tau1GhzUs: number,
+  freqs: number[],
+  rng: Rng,
+): DemoProfiles {
+  const nbin = PROFILE_NBIN;
+  const bins = new Float32Array(freqs.length * nbin);
+  freqs.forEach((f, i) => {
+    // a steep flux spectrum, S ∝ ν^−1.6 (common practice for millisecond pulsars)
+    const area = PEAK_SNR_1GHZ * PULSE_WIDTH * Math.sqrt(2 * Math.PI) * (f / 1000) ** -1.6;
+    const second = b.secondComponent;
+    const components = [
+      { area: area * (second ? 1 - second.fraction : 1), phase: 0.3, width: PULSE_WIDTH },
+    ];
+    if (second)
+      components.push({
+        area: area * second.fraction,
+        phase: 0.3 + second.offset,
+        width: PULSE_WIDTH,
+      });
+    const [band] = simulateProfiles(
+      {
+        nbin,
+        freqsMhz: [f],
+        tau1GhzPeriods: tau1GhzUs / (p.period_s * 1e6),
+        alpha: b.scatter.alpha,
+        components: components.map((c) => ({ ...c, area: c.area * nbin })),
+        noise: 1,
+      },
+      rng,
+    );
+    bins.set(band.bins, i * nbin);
+  });
+  const epoch = normalise({ day: Math.floor(mjd), sec: Math.floor((mjd % 1) * 86400), frac: 0 });
+  return {
+    source: p.source,
+    mjd: formatMjd(epoch, 6),
+    period_s: p.period_s,
+    dm: p.dm,
+    freqs_mhz: freqs.map((f) => Number(f.toFixed(3))),
+    nbin,
+    bins,
+  };
 }
 
 export interface DemoDataSet {
   seed: number;
   pulsars: DemoPulsar[];
   solarN0: number;
-  sets: Array<{ toas: DemoToa[]; truth: DemoTruth }>;
+  sets: Array<{ toas: DemoToa[]; truth: DemoTruth; profiles: DemoProfiles[] }>;
 }
 
 export function simulateDemo(seed = 1): DemoDataSet {

@@ -9,6 +9,8 @@ import { sightline, tempDir } from '../helpers/cli.js';
 const { dir, cleanup } = tempDir();
 const demo = join(dir, 'demo');
 const toasE = join(demo, 'toas', 'SBP-E.csv');
+// the quiet reference pulsar: no scattering changes to bias a DM-only fit
+const toasB = join(demo, 'toas', 'SBP-B.csv');
 
 beforeAll(() => {
   const r = sightline(['demo', 'generate', '--out', demo, '--seed', '3', '--quiet']);
@@ -44,7 +46,7 @@ describe('demo generate', () => {
 describe('dm fit → dm series → toas correct on the demo data', () => {
   it('fits every visit, recovers the injected DM and records inputs and constant', () => {
     const out = join(dir, 'fit.json');
-    const r = sightline(['dm', 'fit', toasE, '--clip', '5', '--json', '--out', out, '--quiet']);
+    const r = sightline(['dm', 'fit', toasB, '--clip', '5', '--json', '--out', out, '--quiet']);
     expect(r.code).toBe(0);
     expect(r.stdout).toBe('');
     const fit = dmFitResultSchema.parse(JSON.parse(readFileSync(out, 'utf8')));
@@ -57,7 +59,7 @@ describe('dm fit → dm series → toas correct on the demo data', () => {
       fit.visits.length / 2,
     );
     // against the simulator's injected truth (ISM + solar wind), per visit, within 4σ
-    const truth = JSON.parse(readFileSync(join(demo, 'truth', 'SBP-E.json'), 'utf8')) as {
+    const truth = JSON.parse(readFileSync(join(demo, 'truth', 'SBP-B.json'), 'utf8')) as {
       visits: Array<{ mjd: number; ddm_ism: number; dm_solar: number }>;
     };
     let within = 0;

@@ -1,0 +1,116 @@
+import type { ProfileSet } from './types.js';
+import { fitProfileBand, type ScatterModelName } from './scatter-fit.js';
+import { fitPowerLaw, type PowerLawFit } from './power-law.js';
+import { expectedTauUs, TAU_DM_SCATTER_DEX } from './empirical.js';
+import type { ScatterBand, ScatterFitResult } from '../schemas/scatter-fit.js';
+
+export interface ScatterOptions {
+  model: ScatterModelName;
+  /** template bins for model "template" */
+  template?: ArrayLike<number>;
+  /** α held fixed; undefined = fitted */
+  alpha?: number;
+  refFreqMhz: number;
+  /** DM for the empirical τ–DM comparison (else the profile set's own) */
+  dm?: number;
+}
+
+type ScatterBody = Omit<
+  ScatterFitResult,
+  'schema' | 'software' | 'input' | 'created_utc' | 'parameters' | 'cautions'
+>;
+
+/** τ per band, the τ(ν) power law over the constrained bands, and the empirical expectation. */
+export function analyseScattering(set: ProfileSet, opts: ScatterOptions): ScatterBody {
+  const nbin = set.bands[0].bins.length;
+  const usPerBin = (set.periodS * 1e6) / nbin;
+  const warnings: string[] = [];
+  const bands: ScatterBand[] = set.bands.map((b) => {
+    const fit = fitProfileBand(b.bins, {
+      model: opts.model,
+      template: opts.template,
+      noise: b.noise,
+    });
+    const tauUs = fit.tauBins * usPerBin;
+    // an upper limit's curvature error says nothing (τ and the pulse centre are degenerate near
+    // zero): the limit itself is the statement
+    const tauErrUs =
+      fit.status === 'fitted' && Number.isFinite(fit.tauErrBins) ? fit.tauErrBins * usPerBin : null;
+    const band: ScatterBand = {
+      freq_mhz: b.freqMhz,
+      status: fit.status,
+      tau_us: tauUs,
+      tau_err_us: tauErrUs,
+      chi2: fit.chi2,
+      dof: fit.dof,
+      reduced_chi2: Number.isFinite(fit.reducedChi2) ? fit.reducedChi2 : null,
+      snr: fit.snr,
+      noise: fit.noise,
+      noise_estimated: fit.noiseEstimated,
+      params: Object.fromEntries(fit.names.map((name, j) => [name, fit.params[j]])),
+      param_errors: Object.fromEntries(
+        fit.names.map((name, j) => [name, Number.isFinite(fit.errors[j]) ? fit.errors[j] : null]),
+      ),
+      iterations: fit.iterations,
+      warnings: fit.warnings,
+    };
+    if (fit.status === 'upper_limit' && fit.tauUpperBins !== undefined)
+      band.tau_upper_us = fit.tauUpperBins * usPerBin;
+    return band;
+  });
+  const constrained = bands.filter(
+    (b) => b.status === 'fitted' && b.tau_err_us !== null && b.tau_err_us > 0,
+  );
+  let powerLaw: PowerLawFit | null = null;
+  if (opts.alpha === undefined && set.bands.length < 2) {
+    throw new RangeError(
+      'α cannot be fitted from a single band: give profiles in two or more bands, or fix α with --alpha 4.4',
+    );
+  }
+  try {
+    powerLaw = fitPowerLaw(
+      constrained.map((b) => ({ freqMhz: b.freq_mhz, tauUs: b.tau_us, tauErrUs: b.tau_err_us! })),
+      opts.refFreqMhz,
+      opts.alpha,
+    );
+  } catch (e) {
+    if (!(e instanceof RangeError)) throw e;
+    warnings.push(`no τ(ν) power law: ${e.message}`);
+  }
+  const dm = opts.dm ?? set.dm ?? null;
+  let expected: ScatterBody['expected'] = null;
+  if (dm !== null && dm > 0) {
+    const tau = expectedTauUs(dm, opts.refFreqMhz);
+    expected = {
+      relation: 'Bhat et al. 2004 (ApJ 605, 759)',
+      dm,
+      freq_mhz: opts.refFreqMhz,
+      tau_us: tau,
+      scatter_dex: TAU_DM_SCATTER_DEX,
+    };
+    if (powerLaw && Math.abs(Math.log10(powerLaw.tau_ref_us / tau)) > TAU_DM_SCATTER_DEX) {
+      warnings.push(
+        `τ at ${opts.refFreqMhz} MHz (${powerLaw.tau_ref_us.toPrecision(3)} µs) differs from the empirical τ–DM relation (${tau.toPrecision(3)} µs) by more than its ${TAU_DM_SCATTER_DEX} dex scatter`,
+      );
+    }
+  }
+  if (powerLaw && !powerLaw.alpha_fixed && powerLaw.alpha_err !== null && powerLaw.n_bands >= 2) {
+    if (powerLaw.alpha < 2 || powerLaw.alpha > 6)
+      warnings.push(
+        `α = ${powerLaw.alpha.toFixed(2)} is far from the 4–4.4 expected of a turbulent medium: check the fits`,
+      );
+  }
+  return {
+    source: set.source,
+    mjd: set.mjd,
+    period_s: set.periodS,
+    nbin,
+    model: opts.model,
+    dm,
+    bands,
+    power_law: powerLaw,
+    expected_tau_us: expected ? expected.tau_us : null,
+    expected,
+    warnings,
+  };
+}
