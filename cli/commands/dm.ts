@@ -49,9 +49,25 @@ export function dmCommand(): Command {
           'fit DM per visit by weighted least squares (residuals give a DM offset, arrival times an absolute DM)',
         )
         .option('--strict', 'exit 1 when any visit is unconstrained')
+        .addOption(
+          new Option('--scatter <mode>', 'chromatic fit: add a scattering term S·(ν/ν_ref)^−α')
+            .choices(['none', 'fixed', 'free'])
+            .default('none'),
+        )
+        .option(
+          '--alpha <a>',
+          'α of the fixed-α scattering model (default 4.4, Kolmogorov)',
+          numberOption('--alpha', positive),
+        )
+        .option(
+          '--ref-freq <mhz>',
+          'reference frequency of the scattering term, MHz',
+          numberOption('--ref-freq', positive),
+          1000,
+        )
         .addHelpText(
           'after',
-          '\nExamples:\n  sightline dm fit toas.csv\n  sightline dm fit toas.csv --window 14 --clip 4 --json --out fit.json\n  sightline dm fit arrivals.csv --period-s 0.00405 --evolution 1',
+          '\nExamples:\n  sightline dm fit toas.csv\n  sightline dm fit toas.csv --window 14 --clip 4 --json --out fit.json\n  sightline dm fit arrivals.csv --period-s 0.00405 --evolution 1\n  sightline dm fit toas.csv --scatter free --json   # DM + scattering, models compared by BIC',
         ),
     ),
   ).action(async (file: string, o: FitCliOptions) =>

@@ -27,6 +27,9 @@ export interface FitCliOptions extends CommonOptions {
   clip?: number;
   evolution: number;
   strict?: boolean;
+  scatter?: 'none' | 'fixed' | 'free';
+  alpha?: number;
+  refFreq?: number;
 }
 
 function fitOptions(o: FitCliOptions): DmFitOptions {
@@ -41,6 +44,9 @@ function fitOptions(o: FitCliOptions): DmFitOptions {
     periodS: o.periodS,
     clipSigma: o.clip,
     evolution: o.evolution,
+    scatter: o.scatter ?? 'none',
+    alpha: o.alpha,
+    refFreqMhz: o.refFreq,
   };
 }
 
@@ -67,6 +73,9 @@ export async function runDmFit(file: string, o: FitCliOptions): Promise<DmFitRes
       period_s: opts.periodS ?? null,
       clip_sigma: opts.clipSigma ?? null,
       evolution: opts.evolution,
+      scatter: opts.scatter,
+      alpha: opts.scatter === 'none' ? null : (opts.alpha ?? 4.4),
+      ref_freq_mhz: opts.scatter === 'none' ? null : (opts.refFreqMhz ?? 1000),
       mode: t.header.hasResidual ? 'residuals' : 'arrival_times',
       receiver_offsets: t.header.hasReceiver,
     },
@@ -117,6 +126,7 @@ function renderFit(r: DmFitResult, format: string): string | Iterable<string> {
     );
   }
   const kind = r.visits[0]?.dm_kind === 'offset' ? 'ΔDM' : 'DM';
+  const chromatic = r.visits.some((v) => v.tau_ref_us !== undefined);
   const rows = r.visits.map((v) => [
     v.source,
     v.mjd.toFixed(3),
@@ -126,6 +136,19 @@ function renderFit(r: DmFitResult, format: string): string | Iterable<string> {
     v.dm_err === null ? null : v.dm_err.toExponential(2),
     v.dm_err_scaled === null ? null : v.dm_err_scaled.toExponential(2),
     v.reduced_chi2 === null ? null : v.reduced_chi2.toFixed(2),
+    ...(chromatic
+      ? [
+          v.tau_ref_us === undefined
+            ? null
+            : `${fmt(v.tau_ref_us, 3)} ± ${fmt(v.tau_ref_err_us, 2)}`,
+          v.alpha === undefined
+            ? null
+            : v.alpha_err
+              ? `${v.alpha.toFixed(2)} ± ${v.alpha_err.toFixed(2)}`
+              : `${v.alpha} fixed`,
+          v.preferred?.replace('_', ' ') ?? null,
+        ]
+      : []),
     v.warnings.length ? `${v.warnings.length}` : '',
   ]);
   let text =
@@ -140,10 +163,17 @@ function renderFit(r: DmFitResult, format: string): string | Iterable<string> {
         'σ',
         'σ scaled',
         'χ²_red',
+        ...(chromatic
+          ? [
+              `τ_ref (µs, ${r.visits.find((v) => v.ref_freq_mhz)?.ref_freq_mhz} MHz)`,
+              'α',
+              'preferred (BIC)',
+            ]
+          : []),
         'warn',
       ],
       rows,
-      [1, 2, 4, 5, 6, 7, 8],
+      [1, 2, 4, 5, 6, 7, ...(chromatic ? [8, 9, 11] : [8])],
     );
   const warned = r.visits.filter((v) => v.warnings.length);
   if (warned.length) {

@@ -5,6 +5,8 @@ import { weightedLeastSquares, weightedLine, SingularDesignError, type WlsFit } 
 import { groupVisits, orderBySourceAndTime, type VisitGrouping } from './visits.js';
 import { addSeconds, diffSeconds, formatMjd } from '../time/mjd.js';
 import { chi2Sf } from '../stats/gamma.js';
+import { chromaticFit, type ModelScore, type ScatterMode } from './chromatic.js';
+import { KOLMOGOROV_ALPHA } from '../profiles/empirical.js';
 import { robustSigma } from '../stats/summary.js';
 
 export interface DmFitOptions {
@@ -16,6 +18,12 @@ export interface DmFitOptions {
   clipSigma?: number;
   /** degree of the profile-evolution polynomial in log10(ν / 1 GHz); 0 = none */
   evolution: number;
+  /** chromatic fit: a scattering term with α held fixed or fitted (default none) */
+  scatter?: ScatterMode;
+  /** α for the fixed-α model (default 4.4, Kolmogorov) */
+  alpha?: number;
+  /** reference frequency of the scattering term, MHz (default 1000) */
+  refFreqMhz?: number;
 }
 
 export interface VisitFit {
@@ -36,6 +44,16 @@ export interface VisitFit {
   receiver_offsets_us?: Record<string, number>;
   evolution_us?: number[];
   t_inf_mjd?: string;
+  /** chromatic fits: scattering delay change at ref_freq_mhz, its index, the models compared */
+  tau_ref_us?: number;
+  tau_ref_err_us?: number;
+  alpha?: number;
+  alpha_err?: number | null;
+  ref_freq_mhz?: number;
+  dm_tau_cov?: number;
+  dm_tau_corr?: number;
+  models?: ModelScore[];
+  preferred?: ModelScore['name'];
   chi2: number | null;
   dof: number | null;
   reduced_chi2: number | null;
@@ -239,6 +257,9 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
     warnings,
     describeModel(receivers, opts.evolution, residualMode),
   );
+  if (opts.scatter && opts.scatter !== 'none') {
+    applyChromatic(out, table, rows, active, receivers, y, sigma, opts);
+  }
   if (hasReceivers && nOff > 1) {
     out.receiver_offsets_us = Object.fromEntries(receivers.map((r, i) => [r, fit.params[i]]));
   }
@@ -387,6 +408,83 @@ function countDistinctFrequencies(
   let count = m > 0 ? 1 : 0;
   for (let j = 1; j < m; j++) if (f[j] !== f[j - 1]) count++;
   return count;
+}
+
+/** The chromatic fit of a visit on its (unclipped) rows; replaces the DM and fit quality. */
+function applyChromatic(
+  out: VisitFit,
+  table: ToaTable,
+  rows: ArrayLike<number>,
+  active: Uint8Array,
+  receivers: string[],
+  y: Float64Array,
+  sigma: Float64Array,
+  opts: DmFitOptions,
+): void {
+  const k = opts.constant.value;
+  const idx: number[] = [];
+  for (let j = 0; j < rows.length; j++) if (active[j]) idx.push(j);
+  const m = idx.length;
+  const nOff = receivers.length;
+  const p0 = nOff + 1 + opts.evolution;
+  const design = new Float64Array(m * p0);
+  const freq = new Float64Array(m);
+  const ya = new Float64Array(m);
+  const sa = new Float64Array(m);
+  idx.forEach((j, r) => {
+    const i = rows[j];
+    const f = table.freqMhz(i);
+    freq[r] = f;
+    ya[r] = y[j];
+    sa[r] = sigma[j];
+    const off = table.header.hasReceiver
+      ? receivers.indexOf(table.receivers[table.receiverId(i)])
+      : 0;
+    design[r * p0 + off] = 1;
+    design[r * p0 + nOff] = (k * 1e6) / (f * f);
+    const l = Math.log10(f / 1000);
+    for (let e = 1; e <= opts.evolution; e++) design[r * p0 + nOff + e] = l ** e;
+  });
+  const refMhz = opts.refFreqMhz ?? 1000;
+  try {
+    const c = chromaticFit(
+      { design, p0, dmColumn: nOff, freqMhz: freq, y: ya, sigma: sa, m },
+      opts.scatter as 'fixed' | 'free',
+      refMhz,
+      opts.alpha ?? KOLMOGOROV_ALPHA,
+    );
+    const ch = c.chosen;
+    const red = ch.dof > 0 ? ch.chi2 / ch.dof : null;
+    out.dm = ch.dm;
+    out.dm_err = ch.dmErr;
+    out.dm_err_scaled = red !== null && red > 1 ? ch.dmErr * Math.sqrt(red) : ch.dmErr;
+    out.offset_us = ch.offsets[0];
+    out.chi2 = ch.chi2;
+    out.dof = ch.dof;
+    out.reduced_chi2 = red;
+    out.chi2_p_value = ch.dof > 0 ? chi2Sf(ch.chi2, ch.dof) : null;
+    out.tau_ref_us = ch.tauRefUs;
+    out.tau_ref_err_us = ch.tauRefErrUs;
+    out.alpha = ch.alpha;
+    out.alpha_err = ch.alphaErr;
+    out.ref_freq_mhz = refMhz;
+    out.dm_tau_cov = ch.dmTauCov;
+    out.dm_tau_corr = ch.dmTauCov / (ch.dmErr * ch.tauRefErrUs);
+    out.models = c.models;
+    out.preferred = c.preferred;
+    out.model += ` + S·(ν/${refMhz} MHz)^−α, α ${opts.scatter === 'free' ? 'fitted' : `= ${ch.alpha}`}`;
+    out.warnings.push(...c.warnings);
+    if (Math.abs(out.dm_tau_corr) > 0.95) {
+      out.warnings.push(
+        `DM and the scattering term are strongly correlated (r = ${out.dm_tau_corr.toFixed(3)}): a wider band would separate them`,
+      );
+    }
+  } catch (e) {
+    if (!(e instanceof SingularDesignError)) throw e;
+    out.warnings.push(
+      `too few arrival times (${m}) for a chromatic fit with ${p0 + 1} parameters: DM-only result kept`,
+    );
+  }
 }
 
 function flaggedRows(table: ToaTable, rows: ArrayLike<number>, active: Uint8Array): number[] {
