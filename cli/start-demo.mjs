@@ -1,7 +1,7 @@
 // `npm start` (until the review app exists): generate the fictional demo data set with the
 // project's simulator and push it through the real CLI, printing the DM tables.
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdirSync, readFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 
 const bin = new URL('../bin/sightline', import.meta.url).pathname;
@@ -21,7 +21,8 @@ function run(args, { show = true } = {}) {
   return r.stdout;
 }
 
-if (!existsSync(join(dir, 'pulsars.json')))
+// (re)generate when missing, or when an older data set lacks the profile cubes
+if (!existsSync(join(dir, 'profiles')))
   run(['demo', 'generate', '--out', dir, '--seed', '1', '--force'], { show: false });
 mkdirSync(out, { recursive: true });
 const catalogue = JSON.parse(readFileSync(join(dir, 'pulsars.json'), 'utf8'));
@@ -78,4 +79,20 @@ for (const p of catalogue.pulsars) {
     { show: false },
   );
 }
-console.log(`\nResults (fits, series, corrected arrival times) are in ${out}/`);
+// scattering from one visit's profile cube of the two strongly scattered pulsars
+for (const name of ['SBP-D', 'SBP-F']) {
+  const folder = join(dir, 'profiles', name);
+  const cube = readdirSync(folder)
+    .filter((f) => f.endsWith('.npy'))
+    .sort()[10];
+  console.log(`\n━━ ${name}: scattering on the profiles of one visit (${cube})`);
+  run([
+    'scatter',
+    'fit',
+    join(folder, cube),
+    '--quiet',
+    '--plot',
+    join(out, `${name}.scatter.png`),
+  ]);
+}
+console.log(`\nResults (fits, series, corrected arrival times, scattering plots) are in ${out}/`);

@@ -201,15 +201,20 @@ function drawTauPanel(
   const Y = (t: number) => top + ph - ((Math.log10(t) - lt0) / (lt1 - lt0)) * ph;
   const pl = r.power_law;
   if (pl) {
+    g.save();
+    g.beginPath();
+    g.rect(left, top, pw, ph);
+    g.clip();
     g.strokeStyle = INK_SOFT;
     g.lineWidth = 1.5;
     g.beginPath();
     for (let k = 0; k <= 40; k++) {
       const f = 10 ** (lf0 + ((lf1 - lf0) * k) / 40);
       const t = pl.tau_ref_us * (f / pl.ref_freq_mhz) ** -pl.alpha;
-      (k ? g.lineTo : g.moveTo).call(g, X(f), Math.min(top + ph, Math.max(top, Y(t))));
+      (k ? g.lineTo : g.moveTo).call(g, X(f), Y(t));
     }
     g.stroke();
+    g.restore();
   }
   for (const p of valid) {
     g.strokeStyle = frequencyColour(p.f, lo, hi);
