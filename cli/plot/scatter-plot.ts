@@ -191,7 +191,10 @@ function drawTauPanel(
   if (!valid.length) return;
   const lf0 = Math.log10(lo / 1.1);
   const lf1 = Math.log10(hi * 1.1);
-  let lt0 = Math.min(...valid.map((p) => Math.log10(Math.max(p.t - p.e, p.t / 10))));
+  // room below each point for its error bar, or for an upper limit's arrow
+  let lt0 = Math.min(
+    ...valid.map((p) => Math.log10(p.ul ? p.t / 3 : Math.max(p.t - p.e, p.t / 10))),
+  );
   let lt1 = Math.max(...valid.map((p) => Math.log10(p.t + p.e)));
   if (lt1 - lt0 < 0.5) {
     lt0 -= 0.25;

@@ -1,6 +1,6 @@
-// `npm run bench`: Sightline side by side with NumPy, in one run, reported as ratios.
+// `npm run bench`: Sightline side by side with NumPy and SciPy, in one run, reported as ratios.
 //
-//   node tests/bench/run.mjs [--visits N] [--repeat N] [--cold N] [--keep]
+//   node tests/bench/run.mjs [--visits N] [--repeat N] [--cold N] [--scatter-visits N] [--keep]
 //
 // (`npm run bench` builds the CLI first.) Steps:
 //   1. writes a seeded synthetic residual table (default 10⁶ rows in 10⁵ visits) to a temporary
@@ -13,11 +13,18 @@
 //                    median of --repeat runs: start, read, validate, fit, write;
 //   3. checks that every visit's DM (and its error, χ², dof) agrees between the two;
 //   4. times the cold start of `sightline delay --dm 100 --freq 1400` against `node -e ''`;
-//   5. prints a table (ratio = Sightline / reference; below 1 means Sightline is faster) and
+//   5. scattering: writes --scatter-visits (default 100) visits × 64 bands × 1024 bins of
+//      scattered single-Gaussian profiles once, as a float64 .npy plus the true τ and noise
+//      (tests/bench/scatter-data.ts, through shared/sim/profiles.ts), then fits every profile
+//      with fitProfileBand(bins, { model: 'gauss', noise }) (tests/bench/scatter-fit-only.ts,
+//      bundled like the CLI) and with scipy.optimize.curve_fit (tests/bench/scatter_fit_scipy.py:
+//      default 'lm' with forward differences, and once more with an analytic Jacobian, for
+//      information), one pass each; compares τ where both sides call it constrained;
+//   6. prints a table (ratio = Sightline / reference; below 1 means Sightline is faster) and
 //      writes tests/bench/last-run.json. The temporary folder is removed (unless --keep).
 //
 // Benchmarks are never test assertions: this script only exits non-zero when a step fails or
-// the results disagree.
+// the DM results disagree (the scattering agreement is reported, not enforced).
 import { spawnSync } from 'node:child_process';
 import {
   closeSync,
@@ -53,6 +60,7 @@ const opt = (name, fallback) => {
 const N_VISITS = opt('--visits', 100_000); // 10 arrival times per visit
 const REPEAT = opt('--repeat', 3); // end-to-end runs per side (median reported)
 const COLD_RUNS = opt('--cold', 15); // cold-start runs per side (median reported)
+const SCATTER_VISITS = opt('--scatter-visits', 100); // 64 profiles of 1024 bins per visit
 const KEEP = argv.includes('--keep');
 
 function fail(message) {
@@ -302,19 +310,24 @@ machine.python = numpyReport.python_version;
 // settings, run by plain node. (Under tsx every function is wrapped by esbuild's keepNames
 // helper, which the shipped bundle is not; that variant is reported for information.)
 const { build } = await import('esbuild');
-const fitOnlyJs = join(dir, 'fit-only.mjs');
-await build({
-  entryPoints: [join(BENCH, 'fit-only.ts')],
-  outfile: fitOnlyJs,
-  bundle: true,
-  platform: 'node',
-  target: 'node20',
-  format: 'esm',
-  logLevel: 'warning',
-  banner: {
-    js: "import { createRequire as __createRequire } from 'node:module'; const require = __createRequire(import.meta.url);",
-  },
-});
+/** Bundle tests/bench/NAME.ts into the temporary folder with the CLI's esbuild settings. */
+async function bundle(name) {
+  const outfile = join(dir, `${name}.mjs`);
+  await build({
+    entryPoints: [join(BENCH, `${name}.ts`)],
+    outfile,
+    bundle: true,
+    platform: 'node',
+    target: 'node20',
+    format: 'esm',
+    logLevel: 'warning',
+    banner: {
+      js: "import { createRequire as __createRequire } from 'node:module'; const require = __createRequire(import.meta.url);",
+    },
+  });
+  return outfile;
+}
+const fitOnlyJs = await bundle('fit-only');
 log('Sightline: fit only (bundled like the CLI, best of 3)');
 const fitOnly = JSON.parse(run(process.execPath, [fitOnlyJs, toas], 'fit-only (bundled)').stdout);
 log('Sightline: fit only (npx tsx, best of 3)');
