@@ -21,7 +21,7 @@ export interface CommonOptions {
   format?: Format;
   json?: boolean;
   out?: string;
-  constant: ConstantName;
+  constant?: ConstantName;
   quiet?: boolean;
 }
 
@@ -34,9 +34,11 @@ export function withCommon(cmd: Command, { constant = true } = {}): Command {
     .option('--quiet', 'no progress or notes on stderr');
   if (constant) {
     cmd.addOption(
-      new Option('--constant <name>', 'dispersion constant convention (recorded in the output)')
-        .choices(CONSTANT_NAMES)
-        .default('conventional'),
+      // no commander default, so a finished fit can tell an explicit choice from none
+      new Option(
+        '--constant <name>',
+        'dispersion constant convention, recorded in the output (default: conventional)',
+      ).choices(CONSTANT_NAMES),
     );
   }
   return cmd;

@@ -34,6 +34,12 @@ export function buildProgram(): Command {
   return program;
 }
 
+// A reader that stops early (`| head`) closes the pipe: that is not an error of ours.
+process.stdout.on('error', (e: NodeJS.ErrnoException) => {
+  if (e.code === 'EPIPE') process.exit(0);
+  throw e;
+});
+
 export async function main(argv: string[]): Promise<number> {
   const program = buildProgram();
   try {

@@ -23,7 +23,9 @@ function run(args, { show = true } = {}) {
 
 // (re)generate when missing, or when an older data set lacks the profile cubes
 if (!existsSync(join(dir, 'profiles')))
-  run(['demo', 'generate', '--out', dir, '--seed', '1', '--force'], { show: false });
+  run(['demo', 'generate', '--out', dir, '--seed', '1', ...(existsSync(dir) ? ['--force'] : [])], {
+    show: false,
+  });
 mkdirSync(out, { recursive: true });
 const catalogue = JSON.parse(readFileSync(join(dir, 'pulsars.json'), 'utf8'));
 console.log(

@@ -1,4 +1,4 @@
-import { createWriteStream, mkdirSync, renameSync, rmSync } from 'node:fs';
+import { createWriteStream, renameSync, rmSync, statSync } from 'node:fs';
 import { basename, dirname, join } from 'node:path';
 import { ioFailure } from '../errors.js';
 
@@ -10,6 +10,17 @@ export interface Output {
   write(chunk: string): Promise<void>;
   commit(): Promise<void>;
   abort(): void;
+}
+
+/** The output's folder must exist: a mistyped path should fail, not create folders. */
+function checkFolder(dir: string): void {
+  let ok: boolean;
+  try {
+    ok = statSync(dir).isDirectory();
+  } catch {
+    ok = false;
+  }
+  if (!ok) throw ioFailure(`${dir}: no such folder for the output file`);
 }
 
 function waitDrain(stream: NodeJS.WritableStream, chunk: string): Promise<void> {
@@ -29,11 +40,7 @@ export function openOutput(path?: string): Output {
     };
   }
   const dir = dirname(path);
-  try {
-    mkdirSync(dir, { recursive: true });
-  } catch (e) {
-    throw ioFailure(`${dir}: cannot create the output folder (${(e as Error).message})`);
-  }
+  checkFolder(dir);
   const temp = join(dir, `.${basename(path)}.${process.pid}.tmp`);
   const stream = createWriteStream(temp, { flags: 'wx' });
   let failed: Error | undefined;
@@ -45,7 +52,14 @@ export function openOutput(path?: string): Output {
     stream.destroy();
     rmSync(temp, { force: true });
   };
+  // an interrupted run leaves no temporary file either
+  const onSignal = (signal: NodeJS.Signals) => {
+    cleanup();
+    process.exit(signal === 'SIGINT' ? 130 : 143);
+  };
   process.once('exit', cleanup);
+  process.once('SIGINT', onSignal);
+  process.once('SIGTERM', onSignal);
   return {
     async write(chunk) {
       if (failed) throw ioFailure(`${path}: ${failed.message}`);
@@ -59,6 +73,8 @@ export function openOutput(path?: string): Output {
       renameSync(temp, path);
       done = true;
       process.removeListener('exit', cleanup);
+      process.removeListener('SIGINT', onSignal);
+      process.removeListener('SIGTERM', onSignal);
     },
     abort: cleanup,
   };
@@ -84,11 +100,7 @@ export async function writeOutput(
 export async function writeFileAtomic(path: string, data: Uint8Array | string): Promise<void> {
   const { writeFileSync } = await import('node:fs');
   const dir = dirname(path);
-  try {
-    mkdirSync(dir, { recursive: true });
-  } catch (e) {
-    throw ioFailure(`${dir}: cannot create the output folder (${(e as Error).message})`);
-  }
+  checkFolder(dir);
   const temp = join(dir, `.${basename(path)}.${process.pid}.tmp`);
   try {
     writeFileSync(temp, data, { flag: 'wx' });

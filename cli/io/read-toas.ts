@@ -7,7 +7,7 @@ import {
   checkHeader,
   detectLayout,
   parseToaRecord,
-  quoteMjdNumbers,
+  quoteTopLevelMjd,
   type ToaHeader,
   type ToaLayout,
   type ToaRow,
@@ -164,8 +164,12 @@ async function readNdjson(stream: NodeJS.ReadableStream, onRow: RowHandler) {
     lineNo++;
     if (text.trim() === '') continue;
     rows++;
-    const quoted = quoteMjdNumbers(text);
-    if (quoted !== text) mjdWasNumber = true;
+    const { text: quoted, numberRows } = quoteTopLevelMjd(
+      lineNo === 1 ? text.replace(/^\uFEFF/, '') : text,
+      1,
+    );
+    const rowNumber = numberRows[0] === true;
+    if (rowNumber) mjdWasNumber = true;
     let value: unknown;
     try {
       value = JSON.parse(quoted);
@@ -178,7 +182,7 @@ async function readNdjson(stream: NodeJS.ReadableStream, onRow: RowHandler) {
       parseToaRecord(obj as Record<string, string>, header, rows, lineNo),
       obj,
       header,
-      quoted !== text,
+      rowNumber,
     );
   }
   if (!header) throw new InputError('the file has no data rows');
@@ -189,7 +193,7 @@ async function readJsonArray(path: string, onRow: RowHandler) {
   const buf = readFileSync(path);
   const sha256 = createHash('sha256').update(buf).digest('hex');
   const text = buf.toString('utf8').replace(/^\uFEFF/, '');
-  const quoted = quoteMjdNumbers(text);
+  const { text: quoted, numberRows } = quoteTopLevelMjd(text, 2);
   let value: unknown;
   try {
     value = JSON.parse(quoted);
@@ -200,14 +204,14 @@ async function readJsonArray(path: string, onRow: RowHandler) {
     throw new InputError('a JSON arrival-time file must hold an array of objects');
   if (value.length === 0) throw new InputError('the array holds no rows');
   const header = checkHeader(Object.keys(checkObject(value[0], 1)));
-  const mjdWasNumber = quoted !== text;
+  const mjdWasNumber = numberRows.some(Boolean);
   for (let i = 0; i < value.length; i++) {
     const obj = checkObject(value[i], i + 1);
     await onRow(
       parseToaRecord(obj as Record<string, string>, header, i + 1),
       obj,
       header,
-      mjdWasNumber,
+      numberRows[i] === true,
     );
   }
   return { header, rows: value.length, sha256, mjdWasNumber };

@@ -1,4 +1,12 @@
-import { existsSync, mkdirSync, readdirSync, renameSync, rmSync, writeFileSync } from 'node:fs';
+import {
+  existsSync,
+  mkdirSync,
+  readdirSync,
+  readFileSync,
+  renameSync,
+  rmSync,
+  writeFileSync,
+} from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { stringify } from 'csv-stringify/sync';
 import { simulateDemo } from '../../shared/sim/demo.js';
@@ -21,7 +29,14 @@ export interface DemoOptions extends CommonOptions {
 export function writeDemo(dir: string, seed: number, force = false): string[] {
   const target = resolve(dir);
   if (existsSync(target) && readdirSync(target).length > 0) {
-    if (!force) throw usageError(`${dir} exists and is not empty (pass --force to replace it)`);
+    // --force replaces only an earlier demo data set, never an arbitrary folder
+    if (!isDemoFolder(target)) {
+      throw usageError(
+        `${dir} exists, is not empty and is not a Sightline demo data set: choose another folder`,
+      );
+    }
+    if (!force)
+      throw usageError(`${dir} holds an earlier demo data set (pass --force to replace it)`);
   }
   const data = simulateDemo(seed);
   const temp = join(dirname(target), `.${process.pid}.demo.tmp`);
@@ -43,7 +58,12 @@ export function writeDemo(dir: string, seed: number, force = false): string[] {
         generated_by: SOFTWARE,
         seed,
         solar_n0_cm3: data.solarN0,
-        receivers: RECEIVERS,
+        receivers: RECEIVERS.map((r) => ({
+          name: r.name,
+          lo_mhz: r.loMhz,
+          hi_mhz: r.hiMhz,
+          channels: r.channels,
+        })),
         pulsars: data.pulsars,
       },
       null,
@@ -77,6 +97,24 @@ export function writeDemo(dir: string, seed: number, force = false): string[] {
   mkdirSync(dirname(target), { recursive: true });
   renameSync(temp, target);
   return files;
+}
+
+/** True when the folder holds a demo data set written by this command (its catalogue says so). */
+function isDemoFolder(folder: string): boolean {
+  try {
+    const catalogue = JSON.parse(readFileSync(join(folder, 'pulsars.json'), 'utf8')) as {
+      generated_by?: { name?: string };
+      observatory?: string;
+    };
+    const known = new Set(['pulsars.json', 'toas', 'truth', 'profiles', 'results']);
+    return (
+      catalogue.generated_by?.name === 'sightline' &&
+      catalogue.observatory === DEMO_OBSERVATORY &&
+      readdirSync(folder).every((f) => known.has(f))
+    );
+  } catch {
+    return false;
+  }
 }
 
 export async function runDemo(o: DemoOptions): Promise<void> {

@@ -69,7 +69,14 @@ export async function runDmFit(file: string, o: FitCliOptions): Promise<DmFitRes
     created_utc: new Date().toISOString(),
     constant: opts.constant,
     parameters: {
-      grouping: opts.grouping,
+      grouping:
+        opts.grouping.kind === 'gap'
+          ? { kind: 'gap', gap_days: opts.grouping.gapDays }
+          : {
+              kind: 'window',
+              window_days: opts.grouping.windowDays,
+              start_mjd: opts.grouping.startMjd,
+            },
       period_s: opts.periodS ?? null,
       clip_sigma: opts.clipSigma ?? null,
       evolution: opts.evolution,
@@ -245,6 +252,23 @@ async function loadFit(file: string, o: SeriesCliOptions): Promise<DmFitResult> 
   if (file.toLowerCase().endsWith('.json')) {
     const text = readFileSync(file, 'utf8');
     if (text.includes('"sightline/dm-fit@1"')) {
+      // the fit is already made: options that would change it must not be silently ignored
+      const given = (
+        [
+          ['--gap', o.gap],
+          ['--window', o.window],
+          ['--window-start', o.windowStart],
+          ['--period-s', o.periodS],
+          ['--clip', o.clip],
+          ['--evolution', o.evolution ? o.evolution : undefined],
+          ['--scatter', o.scatter && o.scatter !== 'none' ? o.scatter : undefined],
+        ] as Array<[string, unknown]>
+      ).filter(([, v]) => v !== undefined);
+      if (given.length) {
+        throw usageError(
+          `${file} is a finished DM fit: ${given.map(([k]) => k).join(', ')} would change the fit, so give the arrival-time table instead`,
+        );
+      }
       const parsed = dmFitResultSchema.safeParse(JSON.parse(text));
       if (!parsed.success) {
         const issue = parsed.error.issues[0];
@@ -252,6 +276,11 @@ async function loadFit(file: string, o: SeriesCliOptions): Promise<DmFitResult> 
           file,
           column: issue.path.join('.'),
         });
+      }
+      if (o.constant && o.constant !== parsed.data.constant.name) {
+        throw usageError(
+          `${file} was fitted with the ${parsed.data.constant.name} constant, not ${o.constant}`,
+        );
       }
       return parsed.data;
     }
@@ -315,6 +344,8 @@ function renderSeries(r: DmSeriesResult, format: string): string {
     ]),
     [2, 3, 4, 5, 6],
   );
+  for (const src of r.sources)
+    for (const w of src.warnings ?? []) text += `warning: ${src.source}: ${w}\n`;
   text += table(
     ['source', 'MJD', 'DM (pc cm⁻³)', 'σ', 'TOAs', ...(r.solar ? ['DM_sun'] : [])],
     r.points.map((p) => [

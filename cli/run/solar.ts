@@ -28,7 +28,15 @@ export function computeSolar(o: SolarOptions): SolarResult {
     sun_distance_au: r.sunDistanceAu,
     dm: r.dm,
     model: SOLAR_MODEL,
+    warnings: [],
   };
+  const elongationDeg = result.elongation_deg;
+  if (elongationDeg < 0.27)
+    result.warnings!.push(
+      'the line of sight passes through the solar disc: the value is meaningless',
+    );
+  else if (elongationDeg < 5)
+    result.warnings!.push('within 5° of the Sun the spherical solar-wind model is crude');
   return result;
 }
 

@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { stringify } from 'csv-stringify/sync';
 import { dmSeriesResultSchema, type DmSeriesResult } from '../../shared/schemas/dm-series.js';
-import { dmModel } from '../../shared/series/correction.js';
+import { dmCurve } from '../../shared/series/correction.js';
 import { InputError } from '../../shared/formats/errors.js';
 import { addSeconds, formatMjd, mjdDecimals, toMjdNumber } from '../../shared/time/mjd.js';
 import { delayToInfinityS } from '../../shared/physics/dispersion.js';
@@ -43,14 +43,16 @@ export const ADDED_COLUMNS = [
   'residual_corrected_us',
 ] as const;
 
-/** JSON text of a row with mjd written back as a bare number when the input had it so. */
+/** JSON text of a row, with mjd written back as a bare number when the row had it so. */
 function jsonRow(
   raw: Record<string, unknown>,
   extra: Record<string, string | number>,
   mjdNumber: boolean,
 ): string {
-  const text = JSON.stringify({ ...raw, ...extra });
-  return mjdNumber ? text.replace(/("mjd":)"([0-9.eE+-]+)"/, '$1$2') : text;
+  if (!mjdNumber) return JSON.stringify({ ...raw, ...extra });
+  // a placeholder no input can contain (a NUL), swapped for the original digits afterwards
+  const text = JSON.stringify({ ...raw, mjd: '\u0000mjd', ...extra });
+  return text.replace('"\\u0000mjd"', String(raw.mjd));
 }
 
 /**
@@ -63,15 +65,18 @@ export async function runCorrect(file: string, o: CorrectOptions): Promise<void>
   if (o.format || o.json)
     throw usageError("toas correct writes the input file's own layout; drop --format/--json");
   const series = readSeries(o.series);
-  const model = dmModel(series, o.use);
+  const model = dmCurve(series, o.use);
   const k = series.constant as { name: 'conventional' | 'physical'; value: number };
   let outside = 0;
   let firstOutside: number | undefined;
   const correctionUs = (row: ToaRow) => {
     const d = model.at(row.source, toMjdNumber(row.epoch));
     if (!d) {
+      const known = series.sources.some((x) => x.source === row.source);
       throw new InputError(
-        `source "${row.source}" is not in the series ${o.series} (it has ${model.sources.join(', ') || 'none'})`,
+        known
+          ? `source "${row.source}" has no fitted visits in the series ${o.series}, so there is no DM to correct with`
+          : `source "${row.source}" is not in the series ${o.series} (it has ${model.sources.join(', ') || 'none'})`,
         { row: row.row, column: 'source' },
       );
     }
@@ -99,7 +104,7 @@ export async function runCorrect(file: string, o: CorrectOptions): Promise<void>
         dm_correction_us: Number(corr.toPrecision(12)),
         mjd_corrected: formatMjd(
           addSeconds(row.epoch, corr * 1e-6),
-          Math.max(mjdDecimals(row.mjdText), 12),
+          Math.max(mjdDecimals(row.mjdText), 18),
         ),
       };
       if (row.residualUs !== undefined)

@@ -153,6 +153,12 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
     return unconstrained(describeModel(receiverNames(active), opts.evolution, residualMode));
   }
 
+  if (!residualMode && opts.periodS === undefined && !table.header.hasPeriod) {
+    throw new InputError(
+      'arrival times without residuals need the pulse period to fold their offsets: give --period-s or a period_s column (or fit timing residuals with a residual_us column)',
+      { column: 'residual_us' },
+    );
+  }
   // Data: residuals as given, or arrival-time offsets from the highest-frequency arrival.
   const { y, sigma, ya, sa, x, residuals } = scratchFor(n);
   let periodUsed: number | undefined;
@@ -267,7 +273,7 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
   if (!residualMode) {
     out.t_inf_mjd = formatMjd(
       addSeconds(table.epoch(ref), fit.params[0] * 1e-6),
-      Math.max(12, table.mjdDecimals),
+      Math.max(18, table.mjdDecimals),
     );
   }
   if (fmax / fmin < WEAK_LEVER_ARM) {
@@ -288,10 +294,24 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
       );
     }
   }
-  if (periodUsed !== undefined && out.chi2_p_value !== null && out.chi2_p_value < CHI2_ALARM_P) {
-    out.warnings.push(
-      'offsets were folded modulo the period: a poor fit may mean the band sweep exceeds half the period (aliased DM)',
-    );
+  if (periodUsed !== undefined) {
+    // Folding cannot tell a sweep of s from s + P: a fit that cannot be checked, fits badly or
+    // gives a negative absolute DM is withheld rather than reported as a number.
+    const doubt =
+      fit.dof === 0
+        ? 'with as many parameters as distinct arrival times the fold cannot be checked'
+        : out.chi2_p_value !== null && out.chi2_p_value < CHI2_ALARM_P
+          ? `the fit is poor (p = ${out.chi2_p_value.toExponential(1)})`
+          : dm < 0
+            ? `the absolute DM came out negative (${dm.toPrecision(4)})`
+            : undefined;
+    if (doubt) {
+      const withheld = visitRecord(head, undefined, out.flagged_rows, warnings, out.model);
+      warnings.push(
+        `offsets were folded modulo the period and ${doubt}: the band sweep may exceed the fold range (aliased DM), so no DM is given; fit timing residuals instead`,
+      );
+      return withheld;
+    }
   }
   if (out.flagged_rows.length) {
     out.warnings.push(

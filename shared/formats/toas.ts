@@ -152,10 +152,54 @@ export function detectLayout(fileName: string, firstChars: string): ToaLayout {
   return 'csv';
 }
 
+const NUMBER_AT = /-?\d+(?:\.\d+)?(?:[eE][+-]?\d+)?/y;
+
 /**
- * JSON numbers lose digits in JSON.parse; quote bare `"mjd": 60000.123…` values first so the
- * decimal text survives. Returns the rewritten text.
+ * JSON numbers lose digits in JSON.parse, so bare `"mjd": 60000.123…` values are quoted first
+ * and their decimal text survives. Only the `mjd` keys of the row objects themselves are
+ * touched (objects at `objectDepth`: 1 for an NDJSON line or a single object, 2 for the
+ * objects of a JSON array); nested unknown columns stay exactly as written. `numberRows[k]`
+ * says whether row object k wrote its mjd as a bare number, so it can be written back alike.
  */
+export function quoteTopLevelMjd(
+  json: string,
+  objectDepth = 1,
+): { text: string; numberRows: boolean[] } {
+  const numberRows: boolean[] = [];
+  let out = '';
+  let last = 0;
+  let depth = 0;
+  for (let i = 0; i < json.length; i++) {
+    const c = json[i];
+    if (c === '{' || c === '[') {
+      depth++;
+      if (c === '{' && depth === objectDepth) numberRows.push(false);
+    } else if (c === '}' || c === ']') {
+      depth--;
+    } else if (c === '"') {
+      let j = i + 1;
+      while (j < json.length && json[j] !== '"') j += json[j] === '\\' ? 2 : 1;
+      const isMjdKey = depth === objectDepth && j - i === 4 && json.startsWith('mjd', i + 1);
+      i = j;
+      if (!isMjdKey) continue;
+      let k = j + 1;
+      while (k < json.length && /\s/.test(json[k])) k++;
+      if (json[k] !== ':') continue;
+      k++;
+      while (k < json.length && /\s/.test(json[k])) k++;
+      NUMBER_AT.lastIndex = k;
+      const m = NUMBER_AT.exec(json);
+      if (!m) continue;
+      out += json.slice(last, k) + '"' + m[0] + '"';
+      last = k + m[0].length;
+      i = last - 1;
+      if (numberRows.length) numberRows[numberRows.length - 1] = true;
+    }
+  }
+  return { text: out + json.slice(last), numberRows };
+}
+
+/** quoteTopLevelMjd for a single object's text (the profile layouts). */
 export function quoteMjdNumbers(json: string): string {
-  return json.replace(/("mjd"\s*:\s*)(-?\d+(?:\.\d+)?(?:[eE][+-]?\d+)?)/g, '$1"$2"');
+  return quoteTopLevelMjd(json, 1).text;
 }

@@ -22,6 +22,9 @@ export const gpFitSchema = z.object({
   white_dm: num.nonnegative(),
   mean_dm: num,
   log_likelihood: num,
+  converged: z.boolean().optional(),
+  /** false when the fit found no correlated variation, or left most scatter to the white term */
+  usable: z.boolean().optional(),
 });
 export const seriesSourceSchema = z.object({
   source: z.string(),
@@ -36,6 +39,7 @@ export const seriesSourceSchema = z.object({
   ra_deg: num.optional(),
   dec_deg: num.optional(),
   gp: gpFitSchema.optional(),
+  warnings: z.array(z.string()).optional(),
 });
 
 export const dmSeriesResultSchema = z.object({

@@ -11,5 +11,6 @@ export const solarResultSchema = z.object({
   sun_distance_au: z.number().positive(),
   dm: z.number().nonnegative(),
   model: z.string(),
+  warnings: z.array(z.string()).optional(),
 });
 export type SolarResult = z.infer<typeof solarResultSchema>;

@@ -31,7 +31,7 @@ function interpolate(xs: number[], ys: number[], x: number): number {
  * interpolation between fitted visits; the solar-wind model the series subtracted is added
  * back at each arrival time's own epoch, since its variation is faster than any visit grid.
  */
-export function dmModel(series: DmSeriesResult, use: 'smooth' | 'points' | 'auto' = 'auto') {
+export function dmCurve(series: DmSeriesResult, use: 'smooth' | 'points' | 'auto' = 'auto') {
   const curves = new Map<
     string,
     {
@@ -46,7 +46,9 @@ export function dmModel(series: DmSeriesResult, use: 'smooth' | 'points' | 'auto
   >();
   for (const s of series.sources) {
     const smooth = (series.smooth ?? []).filter((p) => p.source === s.source);
-    const useSmooth = use === 'smooth' || (use === 'auto' && smooth.length > 0);
+    // 'auto' takes the smooth curve only when the GP found correlated variation it trusts
+    const useSmooth =
+      use === 'smooth' || (use === 'auto' && smooth.length > 0 && s.gp?.usable !== false);
     if (use === 'smooth' && smooth.length === 0) {
       throw new RangeError(
         `the series has no smooth curve for ${s.source} (run dm series --smooth gp)`,

@@ -2,7 +2,11 @@ import type { VisitFitJson } from '../schemas/dm-fit.js';
 import type { DmSeriesResult, SeriesPoint, SmoothPoint } from '../schemas/dm-series.js';
 import { fitGp } from './gp.js';
 import { solarWindDmAt } from '../solar/solar-wind.js';
-import { weightedMean } from '../stats/summary.js';
+import { median, weightedMean } from '../stats/summary.js';
+
+/** Elongations inside the Sun's disc (~0.27°) are left out; below a few degrees, a warning. */
+const SOLAR_DISC_DEG = 0.27;
+const NEAR_SUN_DEG = 5;
 
 export interface Position {
   raDeg: number;
@@ -49,6 +53,9 @@ export function buildDmSeries(visits: VisitFitJson[], opts: SeriesOptions): Seri
       );
     }
     const points: SeriesPoint[] = [];
+    const warnings: string[] = [];
+    let nearSun = 0;
+    let inSun = 0;
     let mjdFirst = Infinity;
     let mjdLast = -Infinity;
     for (const v of list) {
@@ -63,12 +70,26 @@ export function buildDmSeries(visits: VisitFitJson[], opts: SeriesOptions): Seri
         n_toas: v.n_toas,
       };
       if (opts.solarN0 !== undefined && pos) {
-        p.dm_solar = solarWindDmAt(opts.solarN0, pos.raDeg, pos.decDeg, v.mjd).dm;
+        const sun = solarWindDmAt(opts.solarN0, pos.raDeg, pos.decDeg, v.mjd);
+        const elongationDeg = (sun.elongationRad * 180) / Math.PI;
+        if (elongationDeg < SOLAR_DISC_DEG) {
+          inSun++;
+          continue;
+        }
+        if (elongationDeg < NEAR_SUN_DEG) nearSun++;
+        p.dm_solar = sun.dm;
         p.dm = v.dm - p.dm_solar;
       }
       points.push(p);
     }
     points.sort((a, b) => a.mjd - b.mjd);
+    if (inSun)
+      warnings.push(`${inSun} visit(s) with the line of sight inside the solar disc were left out`);
+    if (nearSun) {
+      warnings.push(
+        `${nearSun} visit(s) within ${NEAR_SUN_DEG}° of the Sun: the spherical solar-wind model is crude there`,
+      );
+    }
     const reference =
       opts.referenceDm !== undefined ? 'given' : dmKind === 'offset' ? 'zero' : 'weighted_mean';
     const referenceDm =
@@ -88,6 +109,7 @@ export function buildDmSeries(visits: VisitFitJson[], opts: SeriesOptions): Seri
       n_unconstrained: list.length - points.length,
       ...(points.length ? { mjd_first: mjdFirst, mjd_last: mjdLast } : {}),
       ...(pos ? { ra_deg: pos.raDeg, dec_deg: pos.decDeg } : {}),
+      warnings,
     };
     if (opts.smooth === 'gp' && points.length >= 3) {
       const t = points.map((p) => p.mjd);
@@ -96,12 +118,31 @@ export function buildDmSeries(visits: VisitFitJson[], opts: SeriesOptions): Seri
         points.map((p) => p.dm),
         points.map((p) => p.dm_err),
       );
+      const medErr = median(points.map((p) => p.dm_err));
+      const flat = gp.amplitude < 0.1 * medErr;
+      const whiteHeavy = gp.white > medErr && gp.white > gp.amplitude;
+      if (flat)
+        warnings.push(
+          'the GP finds no DM variation beyond the errors: its curve is the mean, so corrections use the visits',
+        );
+      if (whiteHeavy) {
+        warnings.push(
+          `the GP leaves most scatter to extra white noise (w = ${gp.white.toPrecision(2)} > median error ${medErr.toPrecision(2)}): corrections use the visits`,
+        );
+      }
+      if (!gp.converged) warnings.push('the GP hyperparameter search did not converge');
+      if (gp.lengthAtBound)
+        warnings.push(`the GP length scale ended at a bound (${gp.lengthDays.toPrecision(3)} d)`);
+      if (points.length > 300)
+        warnings.push(`GP smoothing of ${points.length} points: time grows as N³`);
       entry.gp = {
         amplitude_dm: gp.amplitude,
         length_days: gp.lengthDays,
         white_dm: gp.white,
         mean_dm: gp.mean,
         log_likelihood: gp.logLikelihood,
+        converged: gp.converged,
+        usable: !flat && !whiteHeavy,
       };
       const t0 = t[0];
       const t1 = t[t.length - 1];

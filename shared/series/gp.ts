@@ -16,6 +16,10 @@ export interface GpHyper {
 export interface GpModel extends GpHyper {
   mean: number;
   logLikelihood: number;
+  /** the simplex met its tolerance */
+  converged: boolean;
+  /** the length scale ended at the edge of the allowed range (half the closest spacing to 5 spans) */
+  lengthAtBound: boolean;
   predict(t: number[]): { mean: number[]; sd: number[] };
 }
 
@@ -88,7 +92,7 @@ export function fitGp(t: number[], y: number[], err: number[]): GpModel {
     const f = factor(t, y, err, h);
     return f ? -f.logLikelihood : Infinity;
   };
-  let best: { x: number[]; value: number } | undefined;
+  let best: { x: number[]; value: number; converged: boolean } | undefined;
   for (const l0 of [span / 20, span / 5, span]) {
     const start = [
       Math.log(sd || 1e-6),
@@ -104,6 +108,8 @@ export function fitGp(t: number[], y: number[], err: number[]): GpModel {
     ...h,
     mean: f.mean,
     logLikelihood: f.logLikelihood,
+    converged: best!.converged,
+    lengthAtBound: h.lengthDays < lMin * 1.001 || h.lengthDays > lMax / 1.001,
     predict(ts: number[]) {
       const a2 = h.amplitude * h.amplitude;
       const inv2l2 = 1 / (2 * h.lengthDays * h.lengthDays);

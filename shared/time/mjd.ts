@@ -127,6 +127,7 @@ export function formatMjd(e: Epoch, decimals = 16): string {
 
 /** Number of digits after the decimal point in an MJD text (0 when none). */
 export function mjdDecimals(text: string): number {
-  const dot = text.indexOf('.');
-  return dot < 0 ? 0 : text.trim().length - dot - 1;
+  const t = text.trim();
+  const dot = t.indexOf('.');
+  return dot < 0 ? 0 : t.length - dot - 1;
 }

@@ -96,7 +96,7 @@ describe('dm fit → dm series → toas correct on the demo data', () => {
       JSON.parse(sightline(['dm', 'fit', toasE, '--window', '28', '--json']).stdout),
     );
     expect(win.visits.length).toBeLessThan(gap.visits.length * 0.6);
-    expect(win.parameters?.grouping).toEqual({ kind: 'window', windowDays: 28, startMjd: 0 });
+    expect(win.parameters?.grouping).toEqual({ kind: 'window', window_days: 28, start_mjd: 0 });
   });
 
   it('series with GP smoothing and solar wind, then corrected arrival times remove the DM signal', () => {

@@ -208,3 +208,51 @@ describe('DM fit per visit', () => {
     );
   });
 });
+
+describe('arrival times that cannot be trusted are not given a DM', () => {
+  const k2 = dispersionConstant('conventional');
+  const opts2: DmFitOptions = {
+    constant: k2,
+    grouping: { kind: 'gap', gapDays: 0.5 },
+    evolution: 0,
+  };
+  const arrivals = (dm: number, freqs: number[], noise = 0) => {
+    const rng = createRng(12);
+    return freqs.map((f) => ({
+      source: 'X',
+      mjd: formatMjd(
+        addSeconds(parseMjd('60000.3'), (k2.value * dm) / f ** 2 + noise * 1e-6 * rng.normal()),
+        18,
+      ),
+      freq_mhz: f,
+      err_us: 0.5,
+    }));
+  };
+
+  it('refuses arrival times without residuals or a period', () => {
+    expect(() => fitDmVisits(makeTable(arrivals(1, [1200, 1400, 1600])), opts2)).toThrow(
+      /need the pulse period/,
+    );
+  });
+
+  it('withholds a folded fit whose sweep aliases (2 and 3 periods): poor fit, or negative DM', () => {
+    const freqs = [1200, 1300, 1400, 1500, 1600];
+    // P = 1 ms; sweep 1200–1600 MHz at DM 1.59 ≈ 2.0 ms, at DM 2.38 ≈ 3.0 ms
+    for (const dm of [1.59, 2.38]) {
+      const [v] = fitDmVisits(makeTable(arrivals(dm, freqs, 0.5)), { ...opts2, periodS: 0.001 });
+      if (v.status === 'fitted') {
+        // only acceptable if the fold happened to be unambiguous and the DM came out right
+        expect(Math.abs(v.dm! - dm)).toBeLessThan(5 * v.dm_err!);
+      } else {
+        expect(v.warnings.join()).toMatch(/aliased DM/);
+      }
+    }
+    // two frequencies: the fold cannot be checked at all
+    const [two] = fitDmVisits(makeTable(arrivals(0.873, [1200, 1600])), {
+      ...opts2,
+      periodS: 0.001,
+    });
+    expect(two.status).toBe('unconstrained');
+    expect(two.warnings.join()).toMatch(/cannot be checked/);
+  });
+});
