@@ -276,9 +276,18 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
       Math.max(18, table.mjdDecimals),
     );
   }
-  if (fmax / fmin < WEAK_LEVER_ARM) {
+  // the lever arm of the arrival times actually fitted (clipped ones excluded)
+  let usedMin = Infinity;
+  let usedMax = -Infinity;
+  for (let j = 0; j < n; j++) {
+    if (!active[j]) continue;
+    const f = table.freqMhz(rows[j]);
+    usedMin = Math.min(usedMin, f);
+    usedMax = Math.max(usedMax, f);
+  }
+  if (usedMax / usedMin < WEAK_LEVER_ARM) {
     out.warnings.push(
-      `weak lever arm: ν_max/ν_min = ${(fmax / fmin).toFixed(3)} < ${WEAK_LEVER_ARM}; DM is poorly constrained`,
+      `weak lever arm: ν_max/ν_min = ${(usedMax / usedMin).toFixed(3)} < ${WEAK_LEVER_ARM}; DM is poorly constrained`,
     );
   }
   if (fit.dof === 0) {

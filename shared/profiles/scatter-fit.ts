@@ -57,28 +57,40 @@ function profileUpperLimit(
   const ti = model.tauIndex;
   const red = best.dof > 0 ? Math.max(1, best.chi2 / best.dof) : 1;
   const target = best.chi2 + 4 * red;
-  let prevTau = best.params[ti];
-  let prevChi2 = best.chi2;
+  // χ² with τ held at `tau`, everything else refitted from the nearest point already found
   let params = best.params.slice();
-  let tau = Math.max(prevTau * 1.5, 0.05);
-  for (let k = 0; k < 60 && tau <= max[ti]; k++) {
+  const chi2At = (tau: number) => {
     const lo = min.slice();
     const hi = max.slice();
     lo[ti] = tau;
     hi[ti] = tau;
-    params[ti] = tau;
-    const fit = fitWith(model, y, sigma, params, lo, hi);
-    if (fit.chi2 >= target) {
-      const f = (target - prevChi2) / (fit.chi2 - prevChi2);
-      return prevTau + Math.min(1, Math.max(0, f)) * (tau - prevTau);
-    }
+    const start = params.slice();
+    start[ti] = tau;
+    const fit = fitWith(model, y, sigma, start, lo, hi, 1e-7);
     params = fit.params;
-    prevTau = tau;
-    prevChi2 = Math.max(prevChi2, fit.chi2);
-    tau *= 1.4;
+    return fit.chi2;
+  };
+  // bracket by doubling, then bisect in log τ: a handful of refits instead of a fine scan
+  let lo = best.params[ti];
+  let hi = Math.max(lo * 2, 0.05);
+  let steps = 0;
+  while (hi <= max[ti] && chi2At(hi) < target) {
+    lo = hi;
+    hi *= 2;
+    if (++steps > 40) return max[ti];
   }
-  return max[ti];
+  if (hi > max[ti]) return max[ti];
+  lo = Math.max(lo, hi / 2, TAU_MIN_BINS);
+  for (let k = 0; k < 8; k++) {
+    const mid = Math.sqrt(lo * hi);
+    if (chi2At(mid) < target) lo = mid;
+    else hi = mid;
+  }
+  return hi;
 }
+
+/** Δχ² over τ = 0 needed to call scattering detected (3σ for one extra parameter). */
+export const DETECTION_DCHI2 = 9;
 
 /** Smallest τ the fit may take, bins (a screen this weak is indistinguishable from none). */
 export const TAU_MIN_BINS = 1e-3;
@@ -90,17 +102,21 @@ function fitWith(
   start: number[],
   min: number[],
   max: number[],
+  tolerance = 1e-10,
 ): LmResult {
-  return lmFit({
-    n: model.nbin,
-    p: start.length,
-    y,
-    sigma,
-    evaluate: (ps, out, jac) => model.evaluate(ps, out, jac),
-    start,
-    min,
-    max,
-  });
+  return lmFit(
+    {
+      n: model.nbin,
+      p: start.length,
+      y,
+      sigma,
+      evaluate: (ps, out, jac) => model.evaluate(ps, out, jac),
+      start,
+      min,
+      max,
+    },
+    { tolerance },
+  );
 }
 
 /**
@@ -189,11 +205,34 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
       start = fit.params;
     }
   }
-  const { fit, model, min, max } = best!;
+  let { fit } = best!;
+  const { model, min, max } = best!;
+  // Is scattering detected at all? Near τ = 0 the pulse centre and width absorb τ, the χ²
+  // surface is flat and may hold a second, spurious minimum, so the curvature error is no
+  // guide. Refit with τ held at (almost) zero and compare: a likelihood-ratio test. The same
+  // refit catches a τ ≈ 0 minimum the starts above missed.
+  const ti = model.tauIndex;
+  const red0 = fit.dof > 0 ? Math.max(1, fit.chi2 / fit.dof) : 1;
+  let significance = Infinity;
+  if (fit.params[ti] < 3 * narrowestWidth(model, fit.params) && !fit.singular) {
+    const lo = min.slice();
+    const hi = max.slice();
+    lo[ti] = TAU_MIN_BINS;
+    hi[ti] = TAU_MIN_BINS;
+    const start = fit.params.slice();
+    start[ti] = TAU_MIN_BINS;
+    const none = fitWith(model, bins, sigma, start, lo, hi);
+    if (none.chi2 < fit.chi2) {
+      // the τ ≈ 0 solution is better: refit from it with τ free
+      const again = fitWith(model, bins, sigma, none.params, min, max);
+      if (again.chi2 < fit.chi2) fit = again;
+    }
+    significance = Math.max(0, none.chi2 - fit.chi2) / red0;
+  }
   const out = new Float64Array(n);
   model.evaluate(fit.params, out);
-  const tau = fit.params[model.tauIndex];
-  const tauErr = fit.errors[model.tauIndex];
+  const tau = fit.params[ti];
+  const tauErr = fit.errors[ti];
   const reducedChi2 = fit.dof > 0 ? fit.chi2 / fit.dof : NaN;
   let peak = -Infinity;
   for (let i = 0; i < n; i++) peak = Math.max(peak, out[i] - fit.params[0]);
@@ -201,14 +240,10 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
   if (fit.singular || !Number.isFinite(tauErr)) {
     status = 'failed';
     warnings.push('the fit did not converge to a well-defined minimum (singular curvature)');
-  } else if (
-    fit.atBound[model.tauIndex] ||
-    tauErr >= tau ||
-    (tau < 0.25 * narrowestWidth(model, fit.params) && tau < 3 * tauErr)
-  ) {
+  } else if (fit.atBound[ti] || tauErr >= tau || significance < DETECTION_DCHI2) {
     status = 'upper_limit';
     warnings.push(
-      'τ is not constrained (not distinguishable from zero, or far below the pulse width): reported as a 2σ upper limit',
+      `scattering is not detected (χ² improves by ${Number.isFinite(significance) ? significance.toFixed(1) : '—'} over no scattering, < ${DETECTION_DCHI2}): reported as a 2σ upper limit`,
     );
   }
   if (fit.atBound.some((b, j) => b && j !== model.tauIndex && Number.isFinite(fit.params[j]))) {

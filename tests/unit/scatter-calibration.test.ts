@@ -59,3 +59,43 @@ describe('injection–recovery: τ and α uncertainties are calibrated', () => {
     expectCalibrated(alphaHits, alphaN);
   });
 });
+
+describe('no scattering, no detection', () => {
+  it('profiles with τ far below the pulse width are reported as upper limits, not measurements', () => {
+    const rng = createRng(777);
+    let fitted = 0;
+    let coveredByLimit = 0;
+    const N = 120;
+    for (let i = 0; i < N; i++) {
+      const width = 0.01 + 0.01 * rng.uniform();
+      const [band] = simulateProfiles(
+        {
+          nbin: 512,
+          freqsMhz: [3000],
+          tau1GhzPeriods: (1e-4 * 3000 ** 4.4) / 1000 ** 4.4,
+          alpha: 4.4,
+          components: [
+            { area: (20 + 80 * rng.uniform()) * 512 * width * 2.5066, phase: 0.5, width },
+          ],
+          noise: 1,
+        },
+        rng,
+      );
+      const r = analyseScattering(
+        {
+          source: 'NULL',
+          mjd: '60000.5',
+          periodS: 0.005,
+          bands: [{ freqMhz: 3000, bins: band.bins, noise: 1 }],
+        },
+        { model: 'gauss', refFreqMhz: 1000, alpha: 4.4 },
+      );
+      const b = r.bands[0];
+      if (b.status === 'fitted') fitted++;
+      else if (b.tau_upper_us! >= band.tauBins * ((0.005 * 1e6) / 512)) coveredByLimit++;
+    }
+    // a 3σ likelihood-ratio threshold: false detections should be rare (expected well below 1 %)
+    expect(fitted / N).toBeLessThan(0.05);
+    expect(coveredByLimit).toBe(N - fitted);
+  });
+});
