@@ -519,7 +519,7 @@ function applyChromatic(
 function flaggedRows(table: ToaTable, rows: ArrayLike<number>, active: Uint8Array): number[] {
   const out: number[] = [];
   for (let j = 0; j < rows.length; j++) if (!active[j]) out.push(table.row(rows[j]));
-  return out.sort((a, b) => a - b);
+  return out.length > 1 ? out.sort((a, b) => a - b) : out;
 }
 
 /** Round to a decimal step such as 1e-7 without binary noise in the printed value. */
