@@ -52,7 +52,12 @@ export function drawScatterPlot(
     const names = Object.keys(band.params);
     const params = names.map((k) => band.params[k]);
     const model = new Float64Array(n);
-    if (r.model === 'template' && template) templateModel(template).evaluate(params, model);
+    if (!names.length) {
+      // a band whose fit failed outright: draw the data against its mean
+      let mean = 0;
+      for (let k = 0; k < n; k++) mean += bins[k] / n;
+      model.fill(mean);
+    } else if (r.model === 'template' && template) templateModel(template).evaluate(params, model);
     else gaussModel((names.length - 2) / 3, n).evaluate(params, model);
     const colour = frequencyColour(band.freq_mhz, lo, hi);
     const title =
@@ -181,12 +186,14 @@ function drawTauPanel(
   g.fillText('τ against frequency (log–log)', x0, y0 + 16);
   g.strokeStyle = RULE;
   g.strokeRect(left + 0.5, top + 0.5, pw, ph);
-  const pts = r.bands.map((b) => ({
-    f: b.freq_mhz,
-    t: b.status === 'upper_limit' ? (b.tau_upper_us ?? b.tau_us) : b.tau_us,
-    e: b.tau_err_us ?? 0,
-    ul: b.status !== 'fitted',
-  }));
+  const pts = r.bands
+    .filter((b) => b.status !== 'failed')
+    .map((b) => ({
+      f: b.freq_mhz,
+      t: b.status === 'upper_limit' ? (b.tau_upper_us ?? b.tau_us) : b.tau_us,
+      e: b.tau_err_us ?? 0,
+      ul: b.status !== 'fitted',
+    }));
   const valid = pts.filter((p) => p.t > 0);
   if (!valid.length) return;
   const lf0 = Math.log10(lo / 1.1);

@@ -35,6 +35,14 @@ export interface FitCliOptions extends CommonOptions {
 function fitOptions(o: FitCliOptions): DmFitOptions {
   if (o.gap !== undefined && o.window !== undefined)
     throw usageError('give either --gap or --window, not both');
+  if (
+    (o.alpha !== undefined || (o.refFreq !== undefined && o.refFreq !== 1000)) &&
+    (o.scatter ?? 'none') === 'none'
+  ) {
+    throw usageError(
+      '--alpha and --ref-freq describe the scattering term: add --scatter fixed or --scatter free',
+    );
+  }
   return {
     constant: constantOf(o),
     grouping:
@@ -99,6 +107,16 @@ export async function runDmFit(file: string, o: FitCliOptions): Promise<DmFitRes
   return result;
 }
 
+const CHROMATIC_COLUMNS = [
+  'tau_ref_us',
+  'tau_ref_err_us',
+  'alpha',
+  'alpha_err',
+  'ref_freq_mhz',
+  'dm_tau_corr',
+  'preferred',
+] as const;
+
 const FIT_COLUMNS = [
   'source',
   'mjd',
@@ -122,11 +140,13 @@ const FIT_COLUMNS = [
 function renderFit(r: DmFitResult, format: string): string | Iterable<string> {
   if (format === 'json') return jsonChunks(r);
   if (format === 'csv') {
+    const chromatic = r.visits.some((v) => v.tau_ref_us !== undefined);
+    const columns = [...FIT_COLUMNS, ...(chromatic ? CHROMATIC_COLUMNS : [])];
     return csv(
-      [...FIT_COLUMNS],
+      columns,
       r.visits.map((v) =>
-        FIT_COLUMNS.map((c) => {
-          const x = v[c];
+        columns.map((c) => {
+          const x = v[c as keyof typeof v];
           return Array.isArray(x) ? x.join(';') : (x as Cell);
         }),
       ),

@@ -126,6 +126,11 @@ export async function runScatterFit(file: string, o: ScatterCliOptions): Promise
     await writeFileAtomic(o.plot, drawScatterPlot(r, set, template));
   }
   await writeOutput(o.out, render(r, formatOf(o)));
-  if (r.warnings.length) note(o, `${r.warnings.length} warning(s); ${CAUTION}`);
+  const nWarnings = r.warnings.length + r.bands.reduce((n, b) => n + b.warnings.length, 0);
+  if (nWarnings) note(o, `${nWarnings} warning(s); ${CAUTION}`);
   if (r.bands.every((b) => b.status === 'failed')) throw checkFailed('no band could be fitted');
+  if (!r.power_law)
+    throw checkFailed(
+      'no τ(ν) power law: fewer than two bands with a measured τ (see the warnings)',
+    );
 }

@@ -51,6 +51,8 @@ export interface ChromaticResult {
     alphaErr: number | null;
     dmTauCov: number;
     offsets: number[];
+    /** all parameters: offsets, DM, evolution terms, S (and α when fitted) */
+    params: number[];
   };
   warnings: string[];
 }
@@ -194,6 +196,7 @@ export function chromaticFit(
       alphaErr: Math.sqrt(free.cov[p1 * p2 + p1] * k),
       dmTauCov: free.cov[dmColumn * p2 + p0] * k,
       offsets: free.params.slice(0, dmColumn),
+      params: free.params.slice(),
     };
   } else {
     if (mode === 'free') warnings.push('α-free fit impossible here: the α-fixed model is reported');
@@ -208,6 +211,7 @@ export function chromaticFit(
       alphaErr: null,
       dmTauCov: fixed.cov[dmColumn * p1 + p0],
       offsets: Array.prototype.slice.call(fixed.params, 0, dmColumn) as number[],
+      params: Array.from(fixed.params),
     };
   }
   return { models, preferred, chosen, warnings };

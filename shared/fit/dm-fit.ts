@@ -263,16 +263,23 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
     warnings,
     describeModel(receivers, opts.evolution, residualMode),
   );
+  // parameters, χ² and dof of the model reported: the chromatic one when asked for
+  let used: ArrayLike<number> = fit.params;
   if (opts.scatter && opts.scatter !== 'none') {
-    applyChromatic(out, table, rows, active, receivers, y, sigma, opts);
+    used = applyChromatic(out, table, rows, active, receivers, y, sigma, opts) ?? fit.params;
   }
+  const usedDof = out.dof ?? fit.dof;
+  const usedRed = out.reduced_chi2;
+  const usedDm = out.dm ?? dm;
   if (hasReceivers && nOff > 1) {
-    out.receiver_offsets_us = Object.fromEntries(receivers.map((r, i) => [r, fit.params[i]]));
+    out.receiver_offsets_us = Object.fromEntries(receivers.map((r, i) => [r, used[i]]));
   }
-  if (opts.evolution > 0) out.evolution_us = Array.prototype.slice.call(fit.params, nOff + 1);
+  if (opts.evolution > 0) {
+    out.evolution_us = Array.prototype.slice.call(used, nOff + 1, nOff + 1 + opts.evolution);
+  }
   if (!residualMode) {
     out.t_inf_mjd = formatMjd(
-      addSeconds(table.epoch(ref), fit.params[0] * 1e-6),
+      addSeconds(table.epoch(ref), used[0] * 1e-6),
       Math.max(18, table.mjdDecimals),
     );
   }
@@ -290,16 +297,16 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
       `weak lever arm: ν_max/ν_min = ${(usedMax / usedMin).toFixed(3)} < ${WEAK_LEVER_ARM}; DM is poorly constrained`,
     );
   }
-  if (fit.dof === 0) {
+  if (usedDof === 0) {
     out.warnings.push('no degrees of freedom left: χ² and the fit quality cannot be judged');
-  } else if (out.chi2_p_value !== null && red !== null) {
+  } else if (out.chi2_p_value !== null && usedRed !== null) {
     if (out.chi2_p_value < CHI2_ALARM_P) {
       out.warnings.push(
-        `reduced χ² = ${red.toFixed(2)} is improbably large for ${fit.dof} dof (p = ${out.chi2_p_value.toExponential(1)}): errors underestimated or model incomplete; scaled error reported`,
+        `reduced χ² = ${usedRed.toFixed(2)} is improbably large for ${usedDof} dof (p = ${out.chi2_p_value.toExponential(1)}): errors underestimated or model incomplete; scaled error reported`,
       );
     } else if (1 - out.chi2_p_value < CHI2_ALARM_P) {
       out.warnings.push(
-        `reduced χ² = ${red.toFixed(2)} is improbably small for ${fit.dof} dof: errors may be overestimated`,
+        `reduced χ² = ${usedRed.toFixed(2)} is improbably small for ${usedDof} dof: errors may be overestimated`,
       );
     }
   }
@@ -307,12 +314,12 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
     // Folding cannot tell a sweep of s from s + P: a fit that cannot be checked, fits badly or
     // gives a negative absolute DM is withheld rather than reported as a number.
     const doubt =
-      fit.dof === 0
+      usedDof === 0
         ? 'with as many parameters as distinct arrival times the fold cannot be checked'
         : out.chi2_p_value !== null && out.chi2_p_value < CHI2_ALARM_P
           ? `the fit is poor (p = ${out.chi2_p_value.toExponential(1)})`
-          : dm < 0
-            ? `the absolute DM came out negative (${dm.toPrecision(4)})`
+          : usedDm < 0
+            ? `the absolute DM came out negative (${usedDm.toPrecision(4)})`
             : undefined;
     if (doubt) {
       const withheld = visitRecord(head, undefined, out.flagged_rows, warnings, out.model);
@@ -328,10 +335,10 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
     );
   }
   if (periodUsed !== undefined) {
-    const sweepS = k * Math.abs(dm) * (1 / (fmin * fmin) - 1 / (fmax * fmax));
+    const sweepS = k * Math.abs(usedDm) * (1 / (fmin * fmin) - 1 / (fmax * fmax));
     if (sweepS > periodUsed / 2) {
       throw new InputError(
-        `${source} visit at MJD ${mjd.toFixed(4)}: the dispersive sweep across ${fmin}–${fmax} MHz (${(sweepS * 1e3).toFixed(3)} ms at DM ${dm.toFixed(3)}) exceeds half the period (${((periodUsed / 2) * 1e3).toFixed(3)} ms), so offsets modulo the period are ambiguous; fit timing residuals (residual_us) instead`,
+        `${source} visit at MJD ${mjd.toFixed(4)}: the dispersive sweep across ${fmin}–${fmax} MHz (${(sweepS * 1e3).toFixed(3)} ms at DM ${usedDm.toFixed(3)}) exceeds half the period (${((periodUsed / 2) * 1e3).toFixed(3)} ms), so offsets modulo the period are ambiguous; fit timing residuals (residual_us) instead`,
         { row: table.row(ref), column: 'mjd' },
       );
     }
@@ -449,7 +456,7 @@ function applyChromatic(
   y: Float64Array,
   sigma: Float64Array,
   opts: DmFitOptions,
-): void {
+): number[] | undefined {
   const k = opts.constant.value;
   const idx: number[] = [];
   for (let j = 0; j < rows.length; j++) if (active[j]) idx.push(j);
@@ -508,11 +515,13 @@ function applyChromatic(
         `DM and the scattering term are strongly correlated (r = ${out.dm_tau_corr.toFixed(3)}): a wider band would separate them`,
       );
     }
+    return ch.params;
   } catch (e) {
     if (!(e instanceof SingularDesignError)) throw e;
     out.warnings.push(
       `too few arrival times (${m}) for a chromatic fit with ${p0 + 1} parameters: DM-only result kept`,
     );
+    return undefined;
   }
 }
 

@@ -40,6 +40,8 @@ export interface LmResult {
   /** true where a free parameter ended on (or within 1e-9 of) a bound */
   atBound: boolean[];
   singular: boolean;
+  /** χ² stopped improving (or no step could lower it), rather than the step limit being hit */
+  converged: boolean;
 }
 
 export function lmFit(problem: LmProblem, { maxSteps = 200, tolerance = 1e-10 } = {}): LmResult {
@@ -94,7 +96,12 @@ export function lmFit(problem: LmProblem, { maxSteps = 200, tolerance = 1e-10 } 
   let damping = 1e-3;
   let iterations = 0;
   let quiet = 0;
-  for (let step = 0; m > 0 && step < maxSteps && damping < 1e10; step++) {
+  let converged = m === 0;
+  for (let step = 0; m > 0 && step < maxSteps; step++) {
+    if (damping >= 1e10) {
+      converged = true; // no step lowers χ² any more: a minimum
+      break;
+    }
     const r = levenbergMarquardt(
       { x, y: yw },
       (qs: number[]) => {
@@ -123,7 +130,10 @@ export function lmFit(problem: LmProblem, { maxSteps = 200, tolerance = 1e-10 } 
       chi2 = c;
       damping = Math.max(damping / 9, 1e-12);
       quiet = gain <= tolerance * Math.max(1, chi2) ? quiet + 1 : 0;
-      if (quiet >= 2) break;
+      if (quiet >= 2) {
+        converged = true;
+        break;
+      }
     } else {
       damping *= 11;
     }
@@ -154,9 +164,11 @@ export function lmFit(problem: LmProblem, { maxSteps = 200, tolerance = 1e-10 } 
   }
   for (const j of free) if (!(cov[j * p + j] >= 0)) singular = true;
   const errors = Array.from({ length: p }, (_, j) => Math.sqrt(cov[j * p + j]));
-  const near = (a: number, b: number) => Math.abs(a - b) <= 1e-9 * Math.max(1, Math.abs(a));
+  // relative to the parameter's own scale, so the test does not depend on the data's units
+  const near = (a: number, b: number, j: number) =>
+    Math.abs(a - b) <= 1e-9 * Math.max(Math.abs(a), Math.abs(full[j]), errors[j] || 0, 1e-300);
   const atBound = params.map(
-    (v, j) => free.includes(j) && (near(v, problem.min[j]) || near(v, problem.max[j])),
+    (v, j) => free.includes(j) && (near(v, problem.min[j], j) || near(v, problem.max[j], j)),
   );
-  return { params, errors, cov, chi2, dof, iterations, atBound, singular };
+  return { params, errors, cov, chi2, dof, iterations, atBound, singular, converged };
 }

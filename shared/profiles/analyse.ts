@@ -1,5 +1,5 @@
 import type { ProfileSet } from './types.js';
-import { fitProfileBand, type ScatterModelName } from './scatter-fit.js';
+import { fitProfileBand, type BandFit, type ScatterModelName } from './scatter-fit.js';
 import { fitPowerLaw, type PowerLawFit } from './power-law.js';
 import { expectedTauUs, TAU_DM_SCATTER_DEX } from './empirical.js';
 import type { ScatterBand, ScatterFitResult } from '../schemas/scatter-fit.js';
@@ -26,11 +26,14 @@ export function analyseScattering(set: ProfileSet, opts: ScatterOptions): Scatte
   const usPerBin = (set.periodS * 1e6) / nbin;
   const warnings: string[] = [];
   const bands: ScatterBand[] = set.bands.map((b) => {
-    const fit = fitProfileBand(b.bins, {
-      model: opts.model,
-      template: opts.template,
-      noise: b.noise,
-    });
+    let fit: BandFit;
+    try {
+      fit = fitProfileBand(b.bins, { model: opts.model, template: opts.template, noise: b.noise });
+    } catch (e) {
+      // a band that cannot be fitted (e.g. absurd values) fails alone, the others go on
+      if (e instanceof RangeError && /template/.test(e.message)) throw e;
+      return failedBand(b.freqMhz, e instanceof Error ? e.message : String(e));
+    }
     const tauUs = fit.tauBins * usPerBin;
     // an upper limit's curvature error says nothing (τ and the pulse centre are degenerate near
     // zero): the limit itself is the statement
@@ -77,6 +80,20 @@ export function analyseScattering(set: ProfileSet, opts: ScatterOptions): Scatte
     if (!(e instanceof RangeError)) throw e;
     warnings.push(`no τ(ν) power law: ${e.message}`);
   }
+  if (powerLaw) {
+    const below = bands.filter(
+      (b) =>
+        b.status === 'upper_limit' &&
+        b.tau_upper_us !== undefined &&
+        b.tau_upper_us <
+          powerLaw!.tau_ref_us * (b.freq_mhz / powerLaw!.ref_freq_mhz) ** -powerLaw!.alpha,
+    );
+    if (below.length) {
+      warnings.push(
+        `the upper limit(s) at ${below.map((b) => `${b.freq_mhz} MHz`).join(', ')} lie below the fitted power law: it is not consistent with every band`,
+      );
+    }
+  }
   const dm = opts.dm ?? set.dm ?? null;
   let expected: ScatterBody['expected'] = null;
   if (dm !== null && dm > 0) {
@@ -112,5 +129,24 @@ export function analyseScattering(set: ProfileSet, opts: ScatterOptions): Scatte
     expected_tau_us: expected ? expected.tau_us : null,
     expected,
     warnings,
+  };
+}
+
+function failedBand(freqMhz: number, reason: string): ScatterBand {
+  return {
+    freq_mhz: freqMhz,
+    status: 'failed',
+    tau_us: 0,
+    tau_err_us: null,
+    chi2: 0,
+    dof: 0,
+    reduced_chi2: null,
+    snr: 0,
+    noise: 0,
+    noise_estimated: true,
+    params: {},
+    param_errors: {},
+    iterations: 0,
+    warnings: [`the fit failed: ${reason}`],
   };
 }

@@ -1,4 +1,5 @@
-import { gaussModel, templateModel, type ProfileModel } from './models.js';
+import { gaussModel, Spectrum, templateModel, type ProfileModel } from './models.js';
+import { chi2Sf } from '../stats/gamma.js';
 import { noiseFromDifferences, pulseShape } from './estimate.js';
 import { lmFit, type LmResult } from '../fit/lm.js';
 
@@ -31,14 +32,6 @@ export interface BandFit {
   tauUpperBins?: number;
   /** the best-fit model, bins */
   model: Float64Array;
-}
-
-/** The narrowest intrinsic width among the components, bins (∞ for a template). */
-function narrowestWidth(model: ProfileModel, params: number[]): number {
-  if (model.kind !== 'gauss') return Infinity;
-  let w = Infinity;
-  for (let j = 4; j < params.length; j += 3) w = Math.min(w, params[j]);
-  return w;
 }
 
 /**
@@ -92,6 +85,50 @@ function profileUpperLimit(
 /** Δχ² over τ = 0 needed to call scattering detected (3σ for one extra parameter). */
 export const DETECTION_DCHI2 = 9;
 
+/** Spread of the quietest quarter of the profile (circular window with the lowest mean). */
+function offPulseSpread(bins: ArrayLike<number>): number {
+  const n = bins.length;
+  const w = Math.max(4, Math.round(n / 4));
+  let bestMean = Infinity;
+  let bestStart = 0;
+  for (let i = 0; i < n; i++) {
+    let m = 0;
+    for (let k = 0; k < w; k++) m += bins[(i + k) % n];
+    if (m < bestMean) {
+      bestMean = m;
+      bestStart = i;
+    }
+  }
+  const mean = bestMean / w;
+  let v = 0;
+  for (let k = 0; k < w; k++) v += (bins[(bestStart + k) % n] - mean) ** 2;
+  return Math.sqrt(v / (w - 1));
+}
+
+/** Shift (bins) that best aligns the template with the data: the peak of their circular
+ * cross-correlation, by DFT. */
+function crossCorrelationShift(data: ArrayLike<number>, template: ArrayLike<number>): number {
+  const n = data.length;
+  const dft = new Spectrum(n);
+  const d = new Float64Array(2 * n);
+  const t = new Float64Array(2 * n);
+  dft.forward(data, d);
+  dft.forward(template, t);
+  const c = new Float64Array(2 * n);
+  for (let k = 0; k < n; k++) {
+    // D·conj(T)
+    c[2 * k] = d[2 * k] * t[2 * k] + d[2 * k + 1] * t[2 * k + 1];
+    c[2 * k + 1] = d[2 * k + 1] * t[2 * k] - d[2 * k] * t[2 * k + 1];
+  }
+  c[0] = 0;
+  c[1] = 0;
+  const r = new Float64Array(n);
+  dft.inverseReal(c, r);
+  let at = 0;
+  for (let i = 1; i < n; i++) if (r[i] > r[at]) at = i;
+  return at > n / 2 ? at - n : at;
+}
+
 /** Smallest τ the fit may take, bins (a screen this weak is indistinguishable from none). */
 export const TAU_MIN_BINS = 1e-3;
 
@@ -128,15 +165,31 @@ function fitWith(
 export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): BandFit {
   const n = bins.length;
   const noiseEstimated = opts.noise === undefined;
-  const noise = opts.noise ?? noiseFromDifferences(bins);
-  const sigma = new Float64Array(n).fill(noise > 0 ? noise : 1e-12);
+  // bin-to-bin differences first; quantised (integer) data can make their MAD zero, then the
+  // spread of the quietest quarter of the profile
+  let noise = opts.noise ?? noiseFromDifferences(bins);
+  if (!(noise > 0)) noise = offPulseSpread(bins);
+  if (!(noise > 0)) {
+    throw new RangeError(
+      'the noise per bin cannot be estimated from this profile: give it (noise) in the input',
+    );
+  }
+  const sigma = new Float64Array(n).fill(noise);
   const shape = pulseShape(bins);
   const warnings: string[] = [];
   const tauMax = 50 * n;
-  let best: { fit: LmResult; model: ProfileModel; min: number[]; max: number[] } | undefined;
-  const consider = (model: ProfileModel, fit: LmResult, min: number[], max: number[]) => {
+  let best:
+    | { fit: LmResult; model: ProfileModel; min: number[]; max: number[]; initial: number[] }
+    | undefined;
+  const consider = (
+    model: ProfileModel,
+    fit: LmResult,
+    min: number[],
+    max: number[],
+    initial: number[],
+  ) => {
     if (Number.isFinite(fit.chi2) && (!best || fit.chi2 < best.fit.chi2))
-      best = { fit, model, min, max };
+      best = { fit, model, min, max, initial };
   };
   // the estimate first; shorter and longer starting τ only when that fit is poor
   const tauStarts = [
@@ -157,17 +210,13 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
     const model = templateModel(opts.template);
     const tShape = pulseShape(opts.template);
     const scale0 = shape.height / Math.max(tShape.height, 1e-12);
-    const shift0 = shape.peakBin - tShape.peakBin;
-    for (const tau of tauStarts) {
+    const shift0 = crossCorrelationShift(bins, opts.template);
+    for (const tau of [TAU_MIN_BINS * 10, ...tauStarts]) {
       if (good()) break;
       const min = [-Infinity, TAU_MIN_BINS, 0, shift0 - n / 2];
       const max = [Infinity, tauMax, Infinity, shift0 + n / 2];
-      consider(
-        model,
-        fitWith(model, bins, sigma, [shape.baseline, tau, scale0, shift0], min, max),
-        min,
-        max,
-      );
+      const start = [shape.baseline, tau, scale0, shift0];
+      consider(model, fitWith(model, bins, sigma, start, min, max), min, max, start);
     }
   } else {
     const components = opts.model === 'gauss' ? 1 : opts.model === 'gauss2' ? 2 : 3;
@@ -183,7 +232,7 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
       const b = bounds(1);
       const fit = fitWith(one, bins, sigma, s, b.min, b.max);
       if (!best || fit.chi2 < best.fit.chi2) {
-        best = { fit, model: one, min: b.min, max: b.max };
+        best = { fit, model: one, min: b.min, max: b.max, initial: s };
         start = fit.params;
       }
     }
@@ -201,7 +250,7 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
       const s = [...start, Math.max(resid[at], noise) * shape.sigma * 2.5066, at, shape.sigma];
       const b = bounds(c);
       const fit = fitWith(model, bins, sigma, s, b.min, b.max);
-      best = { fit, model, min: b.min, max: b.max };
+      best = { fit, model, min: b.min, max: b.max, initial: s };
       start = fit.params;
     }
   }
@@ -214,20 +263,25 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
   const ti = model.tauIndex;
   const red0 = fit.dof > 0 ? Math.max(1, fit.chi2 / fit.dof) : 1;
   let significance = Infinity;
-  if (fit.params[ti] < 3 * narrowestWidth(model, fit.params) && !fit.singular) {
+  if (!fit.singular) {
     const lo = min.slice();
     const hi = max.slice();
     lo[ti] = TAU_MIN_BINS;
     hi[ti] = TAU_MIN_BINS;
-    const start = fit.params.slice();
-    start[ti] = TAU_MIN_BINS;
-    const none = fitWith(model, bins, sigma, start, lo, hi);
-    if (none.chi2 < fit.chi2) {
+    // τ held at zero, from the τ-free solution and from the profile's own shape: the better
+    let none: LmResult | undefined;
+    for (const from of [fit.params, best!.initial]) {
+      const start = from.slice();
+      start[ti] = TAU_MIN_BINS;
+      const f = fitWith(model, bins, sigma, start, lo, hi);
+      if (!none || f.chi2 < none.chi2) none = f;
+    }
+    if (none!.chi2 < fit.chi2) {
       // the τ ≈ 0 solution is better: refit from it with τ free
-      const again = fitWith(model, bins, sigma, none.params, min, max);
+      const again = fitWith(model, bins, sigma, none!.params, min, max);
       if (again.chi2 < fit.chi2) fit = again;
     }
-    significance = Math.max(0, none.chi2 - fit.chi2) / red0;
+    significance = Math.max(0, none!.chi2 - fit.chi2) / red0;
   }
   const out = new Float64Array(n);
   model.evaluate(fit.params, out);
@@ -236,14 +290,34 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
   const reducedChi2 = fit.dof > 0 ? fit.chi2 / fit.dof : NaN;
   let peak = -Infinity;
   for (let i = 0; i < n; i++) peak = Math.max(peak, out[i] - fit.params[0]);
+  // is there a pulse at all? its flux (area, or template scale) against its error
+  const fluxIndex = 2; // area of the first component, or the template's scale
+  const fluxSignificance = fit.params[fluxIndex] / fit.errors[fluxIndex];
   let status: BandFit['status'] = 'fitted';
   if (fit.singular || !Number.isFinite(tauErr)) {
     status = 'failed';
     warnings.push('the fit did not converge to a well-defined minimum (singular curvature)');
+  } else if (!(fluxSignificance >= 3)) {
+    status = 'failed';
+    warnings.push(
+      `no pulse detected (flux at ${Number.isFinite(fluxSignificance) ? fluxSignificance.toFixed(1) : '—'}σ): τ cannot be measured`,
+    );
+  } else if (tau >= max[ti] * 0.999) {
+    status = 'failed';
+    warnings.push(
+      `τ ran to the top of the fit range (${(max[ti] / n).toFixed(0)} periods): scattering far longer than the period cannot be measured from one profile`,
+    );
   } else if (fit.atBound[ti] || tauErr >= tau || significance < DETECTION_DCHI2) {
     status = 'upper_limit';
     warnings.push(
       `scattering is not detected (χ² improves by ${Number.isFinite(significance) ? significance.toFixed(1) : '—'} over no scattering, < ${DETECTION_DCHI2}): reported as a 2σ upper limit`,
+    );
+  }
+  if (!fit.converged)
+    warnings.push(`the fit stopped after ${fit.iterations} steps without converging`);
+  if (Number.isFinite(reducedChi2) && fit.dof > 0 && chi2Sf(fit.chi2, fit.dof) < 1e-3) {
+    warnings.push(
+      `reduced χ² = ${reducedChi2.toFixed(2)} is improbably large: the pulse model may be too simple (try more components or a template)`,
     );
   }
   if (fit.atBound.some((b, j) => b && j !== model.tauIndex && Number.isFinite(fit.params[j]))) {

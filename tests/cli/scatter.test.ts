@@ -39,9 +39,11 @@ describe('sightline scatter fit', () => {
     expect(bytes.length).toBeGreaterThan(20000);
   });
 
-  it('reports unresolved scattering as upper limits for a weakly scattered pulsar', () => {
+  it('reports unresolved scattering as upper limits for a weakly scattered pulsar (exit 1: no power law)', () => {
     const r = sightline(['scatter', 'fit', cube('SBP-B'), '--alpha', '4.4', '--json']);
-    expect(r.code, r.stderr).toBe(0);
+    // the result is still written, and the missing power law is a failed check
+    expect(r.code, r.stderr).toBe(1);
+    expect(r.stderr).toMatch(/no τ\(ν\) power law/);
     const out = scatterFitResultSchema.parse(JSON.parse(r.stdout));
     const limits = out.bands.filter((b) => b.status === 'upper_limit');
     expect(limits.length).toBeGreaterThan(out.bands.length / 2);
@@ -134,5 +136,43 @@ describe('sightline dm fit --scatter', () => {
     // SBP-D's scattering changes are large: a scattering model is preferred in most visits
     const scattering = fitted.filter((v) => v.preferred !== 'dm_only').length;
     expect(scattering / fitted.length).toBeGreaterThan(0.6);
+  });
+
+  it('reports the chromatic model consistently: offsets, χ² and dof of the model asked for', () => {
+    const r = sightline([
+      'dm',
+      'fit',
+      join(demo, 'toas', 'SBP-D.csv'),
+      '--scatter',
+      'fixed',
+      '--json',
+    ]);
+    const out = dmFitResultSchema.parse(JSON.parse(r.stdout));
+    for (const v of out.visits.filter((x) => x.models && x.receiver_offsets_us)) {
+      const chosen = v.models!.find((m) => m.name === 'alpha_fixed')!;
+      expect(v.chi2).toBeCloseTo(chosen.chi2, 9);
+      expect(v.dof).toBe(chosen.dof);
+      expect(v.offset_us).toBeCloseTo(Object.values(v.receiver_offsets_us!)[0], 9);
+      expect(v.dm).toBeCloseTo(chosen.dm, 12);
+      expect(chosen.aic).toBeCloseTo(chosen.chi2 + 2 * chosen.n_params, 9);
+    }
+    const csvOut = sightline([
+      'dm',
+      'fit',
+      join(demo, 'toas', 'SBP-D.csv'),
+      '--scatter',
+      'fixed',
+      '--format',
+      'csv',
+    ]);
+    expect(csvOut.stdout.split('\n')[0]).toMatch(
+      /tau_ref_us,tau_ref_err_us,alpha,alpha_err,ref_freq_mhz,dm_tau_corr,preferred$/,
+    );
+  });
+
+  it('--alpha without --scatter is a usage error', () => {
+    const r = sightline(['dm', 'fit', join(demo, 'toas', 'SBP-D.csv'), '--alpha', '4']);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toMatch(/add --scatter fixed or --scatter free/);
   });
 });

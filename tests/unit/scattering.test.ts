@@ -130,3 +130,50 @@ describe('scattering fits on profiles', () => {
     expect(r.power_law?.alpha_fixed).toBe(true);
   });
 });
+
+describe('no false measurements', () => {
+  it('pure noise: no band is reported as a measured τ', () => {
+    const rng = createRng(21);
+    let fitted = 0;
+    for (let k = 0; k < 40; k++) {
+      const bins = Float64Array.from({ length: 256 }, () => rng.normal());
+      if (fitProfileBand(bins, { model: 'gauss', noise: 1 }).status === 'fitted') fitted++;
+    }
+    expect(fitted).toBe(0);
+  });
+
+  it('a template fitted against itself finds no scattering', () => {
+    const nbin = 256;
+    const rng = createRng(22);
+    const template = new Float64Array(nbin);
+    gaussModel(1, nbin).evaluate([0, 0.01, 400, 70, 3], template);
+    const data = Float64Array.from(template, (v) => v + 0.5 * rng.normal());
+    const fit = fitProfileBand(data, { model: 'template', template, noise: 0.5 });
+    expect(fit.status).toBe('upper_limit');
+    expect(Math.abs(fit.params[3])).toBeLessThan(0.5); // shift
+  });
+
+  it('scattering far longer than the period is never reported as "not detected"', () => {
+    const rng = createRng(23);
+    const nbin = 256;
+    for (const tauPeriods of [2, 4]) {
+      const bins = new Float64Array(nbin);
+      gaussModel(1, nbin).evaluate([0, tauPeriods * nbin, 3000, 80, 4], bins);
+      for (let i = 0; i < nbin; i++) bins[i] += rng.normal();
+      const fit = fitProfileBand(bins, { model: 'gauss', noise: 1 });
+      expect(fit.status, `τ = ${tauPeriods} P`).not.toBe('upper_limit');
+      if (fit.status === 'fitted')
+        expect(Math.abs(fit.tauBins - tauPeriods * nbin)).toBeLessThan(4 * fit.tauErrBins);
+    }
+  });
+
+  it('integer-valued (quantised) profiles still get a finite noise estimate', () => {
+    const rng = createRng(24);
+    const bins = new Float64Array(256);
+    gaussModel(1, 256).evaluate([10, 5, 800, 100, 4], bins);
+    for (let i = 0; i < 256; i++) bins[i] = Math.round(bins[i] + 0.3 * rng.normal());
+    const fit = fitProfileBand(bins, { model: 'gauss' });
+    expect(fit.noise).toBeGreaterThan(0);
+    expect(Number.isFinite(fit.snr)).toBe(true);
+  });
+});
