@@ -1,6 +1,6 @@
 /**
- * Seeded pseudo-random numbers for simulations and tests: sfc32 (Doty-Humphrey's small fast
- * counting generator, from PractRand) seeded through splitmix32, and Gaussian deviates by the
+ * Seeded pseudo-random numbers for simulations and tests: sfc32 (the small fast counting
+ * generator of the PractRand test suite) seeded through splitmix32, and Gaussian deviates by the
  * Box–Muller transform. Same seed, same sequence, on every platform.
  */
 export interface Rng {
