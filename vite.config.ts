@@ -15,5 +15,8 @@ export default defineConfig({
     testTimeout: 60_000,
     hookTimeout: 120_000,
     pool: 'forks',
+    // the JSON report lets .ci/run print a plain "N passed, N failed" closing line
+    reporters: ['default', 'json'],
+    outputFile: { json: 'dist/test-results.json' },
   },
 });
