@@ -19,6 +19,32 @@ const GAUSS_REACH = 37;
 /** erfc(−z) < 2e-17 for z < −Z_PURE: the EMG is then a pure exponential to double precision */
 const Z_PURE = 6;
 
+/** Below τ/σ = SMALL_TAU the closed-form ∂/∂σ and ∂/∂τ cancel badly; a series takes over. */
+const SMALL_TAU = 1e-2;
+
+/**
+ * ∂f/∂σ and ∂f/∂τ for τ ≪ σ from the expansion of the exponential's smoothing operator,
+ * f = (1 + τ d/du)⁻¹ φ = φ − τφ′ + τ²φ″ − …, so ∂f/∂τ = −φ′ + 2τφ″ − 3τ²φ‴ and, with
+ * ∂φ/∂σ = σφ″, ∂f/∂σ = σ(φ″ − τφ‴ + τ²φ⁗); the next terms are O((τ/σ)³) relative.
+ * x = u/σ, phi = φ(u).
+ */
+export function smallTauDerivatives(
+  x: number,
+  sigma: number,
+  tau: number,
+  phi: number,
+): { dfds: number; dfdt: number } {
+  const x2 = x * x;
+  const d1 = (-x / sigma) * phi;
+  const d2 = ((x2 - 1) / (sigma * sigma)) * phi;
+  const d3 = (-(x2 * x - 3 * x) / sigma ** 3) * phi;
+  const d4 = ((x2 * x2 - 6 * x2 + 3) / sigma ** 4) * phi;
+  return {
+    dfds: sigma * (d2 - tau * d3 + tau * tau * d4),
+    dfdt: -d1 + 2 * tau * d2 - 3 * tau * tau * d3,
+  };
+}
+
 /** One unit-area EMG value at relative time u (no wrapping). */
 export function emg(u: number, sigma: number, tau: number): number {
   const z = (sigma / tau - u / sigma) / SQRT2;
@@ -67,6 +93,7 @@ export function periodicEmg(
   const s2 = sigma * sigma;
   const t2 = tau * tau;
   const t3 = t2 * tau;
+  const small = tau < SMALL_TAU * sigma;
   for (; u < pureFrom && u <= right; u += period) {
     const v = emg(u, sigma, tau);
     const x = u / sigma;
@@ -74,8 +101,14 @@ export function periodicEmg(
       x < -GAUSS_REACH || x > GAUSS_REACH ? 0 : (Math.exp(-0.5 * x * x) * INV_SQRT_2PI) / sigma;
     f += v;
     du += (phi - v) / tau;
-    ds += (sigma / t2) * (v - phi) - (phi * u) / (sigma * tau);
-    dt += v * (u / t2 - 1 / tau - s2 / t3) + (s2 * phi) / t3;
+    if (small) {
+      const d = smallTauDerivatives(x, sigma, tau, phi);
+      ds += d.dfds;
+      dt += d.dfdt;
+    } else {
+      ds += (sigma / t2) * (v - phi) - (phi * u) / (sigma * tau);
+      dt += v * (u / t2 - 1 / tau - s2 / t3) + (s2 * phi) / t3;
+    }
   }
   if (u >= pureFrom) {
     // Σ_{m≥0} g(u + mP) with g(u) = exp(σ²/2τ² − u/τ)/τ: g(u)/(1 − q), q = e^(−P/τ);

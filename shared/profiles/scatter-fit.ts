@@ -262,8 +262,9 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
   // refit catches a τ ≈ 0 minimum the starts above missed.
   const ti = model.tauIndex;
   const red0 = fit.dof > 0 ? Math.max(1, fit.chi2 / fit.dof) : 1;
-  let significance = Infinity;
-  if (!fit.singular) {
+  let significance: number;
+  let noScatter: LmResult | undefined;
+  {
     const lo = min.slice();
     const hi = max.slice();
     lo[ti] = TAU_MIN_BINS;
@@ -282,6 +283,7 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
       if (again.chi2 < fit.chi2) fit = again;
     }
     significance = Math.max(0, none!.chi2 - fit.chi2) / red0;
+    noScatter = none;
   }
   const out = new Float64Array(n);
   model.evaluate(fit.params, out);
@@ -290,14 +292,14 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
   const reducedChi2 = fit.dof > 0 ? fit.chi2 / fit.dof : NaN;
   let peak = -Infinity;
   for (let i = 0; i < n; i++) peak = Math.max(peak, out[i] - fit.params[0]);
-  // is there a pulse at all? its flux (area, or template scale) against its error
-  const fluxIndex = 2; // area of the first component, or the template's scale
-  const fluxSignificance = fit.params[fluxIndex] / fit.errors[fluxIndex];
+  // is there a pulse at all? its flux (first area, or the template's scale) against its error,
+  // from the τ-free fit, or from the τ = 0 fit where τ and the pulse centre are degenerate
+  const fluxIndex = 2;
+  const fluxFrom = Number.isFinite(fit.errors[fluxIndex]) && !fit.singular ? fit : noScatter;
+  const fluxSignificance = fluxFrom ? fluxFrom.params[fluxIndex] / fluxFrom.errors[fluxIndex] : NaN;
+  const notDetected = fit.atBound[ti] || !(significance >= DETECTION_DCHI2);
   let status: BandFit['status'] = 'fitted';
-  if (fit.singular || !Number.isFinite(tauErr)) {
-    status = 'failed';
-    warnings.push('the fit did not converge to a well-defined minimum (singular curvature)');
-  } else if (!(fluxSignificance >= 3)) {
+  if (!(fluxSignificance >= 3)) {
     status = 'failed';
     warnings.push(
       `no pulse detected (flux at ${Number.isFinite(fluxSignificance) ? fluxSignificance.toFixed(1) : '—'}σ): τ cannot be measured`,
@@ -307,11 +309,16 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
     warnings.push(
       `τ ran to the top of the fit range (${(max[ti] / n).toFixed(0)} periods): scattering far longer than the period cannot be measured from one profile`,
     );
-  } else if (fit.atBound[ti] || tauErr >= tau || significance < DETECTION_DCHI2) {
+  } else if (notDetected || !(tauErr < tau)) {
+    // near τ = 0 the curvature is degenerate (τ trades with the pulse centre): the limit from
+    // the profile likelihood is the statement
     status = 'upper_limit';
     warnings.push(
       `scattering is not detected (χ² improves by ${Number.isFinite(significance) ? significance.toFixed(1) : '—'} over no scattering, < ${DETECTION_DCHI2}): reported as a 2σ upper limit`,
     );
+  } else if (fit.singular) {
+    status = 'failed';
+    warnings.push('the fit did not converge to a well-defined minimum (singular curvature)');
   }
   if (!fit.converged)
     warnings.push(`the fit stopped after ${fit.iterations} steps without converging`);

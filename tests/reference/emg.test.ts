@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { emg, periodicEmg, type EmgTerms } from '../../shared/profiles/emg.js';
+import { emg, periodicEmg, smallTauDerivatives, type EmgTerms } from '../../shared/profiles/emg.js';
 import { python, pythonAvailable } from '../helpers/python.js';
 
 const terms = (): EmgTerms => ({ f: 0, dfdu: 0, dfds: 0, dfdt: 0 });
@@ -81,6 +81,36 @@ describe('periodic scattered Gaussian', () => {
       expect(Math.abs(base.dfdu - dU)).toBeLessThan(1e-6 * scale);
       expect(Math.abs(base.dfds - dS)).toBeLessThan(1e-6 * scale);
       expect(Math.abs(base.dfdt - dT)).toBeLessThan(1e-6 * scale);
+    }
+  });
+});
+
+describe('derivatives for τ ≪ σ (series instead of a cancelling closed form)', () => {
+  it('the series matches the closed form where both are accurate (τ/σ = 0.02), and finite differences below', () => {
+    const a = { f: 0, dfdu: 0, dfds: 0, dfdt: 0 };
+    const b = { f: 0, dfdu: 0, dfds: 0, dfdt: 0 };
+    const P = 4096;
+    const sigma = 30;
+    // closed form at τ/σ = 0.02: its cancellation error is ~1e-16·(σ/τ)³ ≈ 1e-11
+    for (const u of [-50, -20, -5, 3, 17, 44]) {
+      const tau = 0.02 * sigma;
+      const closed = periodicEmg(u, sigma, tau, P, a);
+      const phi = Math.exp(-0.5 * (u / sigma) ** 2) / (sigma * Math.sqrt(2 * Math.PI));
+      const series = smallTauDerivatives(u / sigma, sigma, tau, phi);
+      const scale = phi / sigma;
+      // the series drops terms of order 4(τ/σ)³ times a polynomial in u/σ (≲ 10 here): ≲ 3e-4
+      // of the derivative's scale at τ/σ = 0.02 (it takes over only below 0.01)
+      expect(Math.abs(series.dfdt - closed.dfdt)).toBeLessThan(1e-3 * scale);
+      expect(Math.abs(series.dfds - closed.dfds)).toBeLessThan(1e-3 * scale);
+    }
+    // below the switch (τ/σ = 1e-3 / 30) the derivatives in use match central differences in τ
+    for (const u of [-40, -10, 0, 12, 35]) {
+      const tau = 1e-3;
+      const d = periodicEmg(u, sigma, tau, P, a);
+      const h = 1e-4;
+      const fd =
+        (periodicEmg(u, sigma, tau + h, P, b).f - periodicEmg(u, sigma, tau - h, P, b).f) / (2 * h);
+      expect(Math.abs(d.dfdt - fd)).toBeLessThan(1e-6 * (Math.abs(fd) + 1e-6));
     }
   });
 });
