@@ -158,9 +158,9 @@ function fitWith(
 
 /**
  * Fit one band's profile with a scattered-pulse model by Levenberg–Marquardt, starting from
- * values read off the profile and trying short, medium and long scattering times. A τ not
- * distinguishable from zero (error larger than the value, or at the lower bound) is an upper
- * limit, never a measurement.
+ * values read off the profile and trying short, medium and long scattering times. Scattering
+ * counts as detected only if χ² improves by DETECTION_DCHI2 over τ held at zero; otherwise the
+ * band is an upper limit from the profile likelihood, never a measurement.
  */
 export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): BandFit {
   const n = bins.length;
@@ -262,29 +262,24 @@ export function fitProfileBand(bins: ArrayLike<number>, opts: BandFitOptions): B
   // refit catches a τ ≈ 0 minimum the starts above missed.
   const ti = model.tauIndex;
   const red0 = fit.dof > 0 ? Math.max(1, fit.chi2 / fit.dof) : 1;
-  let significance: number;
+  const fixedLo = min.slice();
+  const fixedHi = max.slice();
+  fixedLo[ti] = TAU_MIN_BINS;
+  fixedHi[ti] = TAU_MIN_BINS;
+  // τ held at zero, from the τ-free solution and from the profile's own shape: the better
   let noScatter: LmResult | undefined;
-  {
-    const lo = min.slice();
-    const hi = max.slice();
-    lo[ti] = TAU_MIN_BINS;
-    hi[ti] = TAU_MIN_BINS;
-    // τ held at zero, from the τ-free solution and from the profile's own shape: the better
-    let none: LmResult | undefined;
-    for (const from of [fit.params, best!.initial]) {
-      const start = from.slice();
-      start[ti] = TAU_MIN_BINS;
-      const f = fitWith(model, bins, sigma, start, lo, hi);
-      if (!none || f.chi2 < none.chi2) none = f;
-    }
-    if (none!.chi2 < fit.chi2) {
-      // the τ ≈ 0 solution is better: refit from it with τ free
-      const again = fitWith(model, bins, sigma, none!.params, min, max);
-      if (again.chi2 < fit.chi2) fit = again;
-    }
-    significance = Math.max(0, none!.chi2 - fit.chi2) / red0;
-    noScatter = none;
+  for (const from of [fit.params, best!.initial]) {
+    const start = from.slice();
+    start[ti] = TAU_MIN_BINS;
+    const f = fitWith(model, bins, sigma, start, fixedLo, fixedHi);
+    if (!noScatter || f.chi2 < noScatter.chi2) noScatter = f;
   }
+  if (noScatter!.chi2 < fit.chi2) {
+    // the τ ≈ 0 solution is better: refit from it with τ free
+    const again = fitWith(model, bins, sigma, noScatter!.params, min, max);
+    if (again.chi2 < fit.chi2) fit = again;
+  }
+  const significance = Math.max(0, noScatter!.chi2 - fit.chi2) / red0;
   const out = new Float64Array(n);
   model.evaluate(fit.params, out);
   const tau = fit.params[ti];
