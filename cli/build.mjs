@@ -34,3 +34,13 @@ await build({
   entryPoints: { main: 'server/main.ts' },
   outdir: 'dist/server',
 });
+// The analysis worker (server/jobs/pool.ts loads it beside the server bundle, or from here when
+// the server runs from source): its own bundle, self-contained but for the native canvas addon;
+// split so the plotting code the CLI modules reach lazily stays in a chunk the worker never loads.
+await build({
+  ...common,
+  entryPoints: { 'analysis-worker': 'server/jobs/analysis-worker.ts' },
+  outdir: 'dist/server',
+  splitting: true,
+  chunkNames: 'analysis-worker-chunks/[name]-[hash]',
+});

@@ -1,19 +1,69 @@
-import express from 'express';
+import { randomUUID } from 'node:crypto';
 import path from 'node:path';
+import express from 'express';
+import helmet from 'helmet';
+import { pinoHttp } from 'pino-http';
+import { authenticate } from './auth/middleware.js';
+import type { Services } from './context.js';
 import { errorHandler, notFound, sendError } from './errors.js';
+import { analysesRouter } from './routes/analyses.js';
+import { authRouter } from './routes/auth.js';
+import { baselinesRouter } from './routes/baselines.js';
 import { healthRouter } from './routes/health.js';
+import { peopleRouter } from './routes/people.js';
+import { pulsarsRouter } from './routes/pulsars.js';
+import { runsRouter } from './routes/runs.js';
+import { uploadsRouter } from './routes/uploads.js';
 
 export interface AppOptions {
   /** Folder holding the built web app (vite build output: index.html + assets/). */
   webDir: string;
+  services: Services;
+  /** Express `trust proxy` (e.g. 1 behind one reverse proxy); off by default */
+  trustProxy?: boolean | number | string;
 }
 
-export function createApp({ webDir }: AppOptions): express.Express {
+export function createApp({ webDir, services: s, trustProxy }: AppOptions): express.Express {
   const app = express();
   app.disable('x-powered-by');
+  app.set('trust proxy', trustProxy ?? false);
+  app.use(
+    helmet({
+      // plain http on a lab network is normal for this app; do not force https on the browser
+      strictTransportSecurity: s.publicUrl.startsWith('https:'),
+      contentSecurityPolicy: {
+        directives: { upgradeInsecureRequests: s.publicUrl.startsWith('https:') ? [] : null },
+      },
+    }),
+  );
+  app.use(
+    '/api',
+    pinoHttp({
+      logger: s.logger,
+      genReqId: (req, res) => {
+        const given = req.headers['x-request-id'];
+        const id = typeof given === 'string' && /^[\w.-]{1,64}$/.test(given) ? given : randomUUID();
+        res.setHeader('X-Request-Id', id);
+        return id;
+      },
+      customLogLevel: (_req, res, err) =>
+        err || res.statusCode >= 500 ? 'error' : res.statusCode >= 400 ? 'warn' : 'info',
+    }),
+  );
 
-  app.use('/api', healthRouter);
+  app.use('/api', healthRouter(s));
+  // better-auth reads its own bodies: before express.json()
+  app.use('/api', authRouter(s));
+  app.use('/api', express.json({ limit: s.limits.jsonBytes }));
+  app.use('/api', authenticate(s));
+  app.use('/api', peopleRouter(s));
+  app.use('/api', pulsarsRouter(s));
+  app.use('/api', runsRouter(s));
+  app.use('/api', baselinesRouter(s));
+  app.use('/api', uploadsRouter(s));
+  app.use('/api', analysesRouter(s));
   app.use('/api', notFound);
+  app.use('/api', errorHandler);
 
   // Hashed bundles never change; a missing one is a 404, not the app shell.
   app.use(

@@ -1,8 +1,9 @@
-import path from 'node:path';
-import { fileURLToPath } from 'node:url';
+// `node dist/server/main.js` — the review server on its own (the CLI's `sightline serve` does
+// the same). Options: --port, --host, --data-dir; environment: DATABASE_URL, SMTP_URL,
+// SIGHTLINE_PUBLIC_URL, SIGHTLINE_TRUSTED_ORIGINS, SIGHTLINE_AUTH_SECRET, LOG_LEVEL.
 import { parseArgs } from 'node:util';
-import { createApp } from './app.js';
 import { SOFTWARE } from './software.js';
+import { startServer } from './start.js';
 
 const DEFAULT_PORT = 5180;
 
@@ -19,34 +20,36 @@ function parsePort(text: string | undefined): number {
   return port;
 }
 
-/** Bundled as dist/server/main.js the web app sits beside it in dist/web; from source, in dist/web. */
-function defaultWebDir(): string {
-  const here = path.dirname(fileURLToPath(import.meta.url));
-  const bundled = path.basename(path.dirname(here)) === 'dist';
-  return path.resolve(here, bundled ? '../web' : '../dist/web');
-}
-
 let args;
 try {
-  args = parseArgs({ options: { port: { type: 'string' } } }).values;
+  args = parseArgs({
+    options: {
+      port: { type: 'string' },
+      host: { type: 'string' },
+      'data-dir': { type: 'string' },
+    },
+  }).values;
 } catch (e) {
   fail((e as Error).message, 2);
 }
 
-const port = parsePort(args.port ?? process.env.PORT);
-const host = process.env.HOST || '127.0.0.1';
-const webDir = process.env.SIGHTLINE_WEB_DIR || defaultWebDir();
-
-const server = createApp({ webDir }).listen(port, host, (err?: NodeJS.ErrnoException) => {
-  if (err)
-    fail(err.code === 'EADDRINUSE' ? `port ${port} on ${host} is already in use` : err.message, 1);
-  const address = server.address();
-  const actualPort = typeof address === 'object' && address ? address.port : port;
+try {
+  const running = await startServer({
+    port: parsePort(args.port ?? process.env.PORT),
+    host: args.host ?? process.env.HOST ?? '127.0.0.1',
+    dataDir: args['data-dir'] ?? process.env.SIGHTLINE_DATA_DIR ?? 'data',
+    databaseUrl: process.env.DATABASE_URL || undefined,
+    smtpUrl: process.env.SMTP_URL || undefined,
+    publicUrl: process.env.SIGHTLINE_PUBLIC_URL || undefined,
+    trustedOrigins: process.env.SIGHTLINE_TRUSTED_ORIGINS?.split(',').filter(Boolean),
+    webDir: process.env.SIGHTLINE_WEB_DIR || undefined,
+  });
   process.stdout.write(
-    `sightline server ${SOFTWARE.version} listening on http://${host}:${actualPort}/ (web: ${webDir})\n`,
+    `sightline server ${SOFTWARE.version} listening on ${running.url}/ (database: ${running.services.database.engine} ${running.services.database.location})\n`,
   );
-});
-
-for (const signal of ['SIGINT', 'SIGTERM'] as const) {
-  process.once(signal, () => server.close(() => process.exit(0)));
+  for (const signal of ['SIGINT', 'SIGTERM'] as const)
+    process.once(signal, () => void running.close().then(() => process.exit(0)));
+} catch (e) {
+  const err = e as NodeJS.ErrnoException;
+  fail(err.code === 'EADDRINUSE' ? `the port is already in use (${err.message})` : err.message, 1);
 }

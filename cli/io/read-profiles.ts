@@ -26,27 +26,30 @@ const sha256 = (bytes: Uint8Array) => createHash('sha256').update(bytes).digest(
  * JSON from `metaPath` or, by default, `PATH.json` beside it (`cube.npy` → `cube.npy.json`).
  * Every file read is listed in `input` with its SHA-256. InputErrors name the file at fault;
  * a missing input file (or a missing `metaPath`) propagates as ENOENT (exit 3). Only a missing
- * default sidecar is reported as invalid input, saying where it looked.
+ * default sidecar is reported as invalid input, saying where it looked. `name` is what errors and
+ * `input` call `path`, and what the type is told by (default `path`; the server passes an
+ * upload's original name).
  */
 export async function readProfiles(
   path: string,
   metaPath?: string,
+  name: string = path,
 ): Promise<{ set: ProfileSet; input: ProfileInputFile[] }> {
   const bytes = await readFile(path);
+  const lower = name.toLowerCase();
   const isNpy =
-    path.toLowerCase().endsWith('.npy') ||
-    (!path.toLowerCase().endsWith('.json') && bytes.subarray(0, 6).equals(NPY_MAGIC));
+    lower.endsWith('.npy') || (!lower.endsWith('.json') && bytes.subarray(0, 6).equals(NPY_MAGIC));
 
   if (!isNpy) {
-    if (bytes.length === 0) throw new InputError('the file is empty', { file: path });
+    if (bytes.length === 0) throw new InputError('the file is empty', { file: name });
     let set: ProfileSet;
     try {
       set = parseProfileJsonText(bytes.toString('utf8'));
     } catch (e) {
-      if (e instanceof InputError) throw e.inFile(path);
+      if (e instanceof InputError) throw e.inFile(name);
       throw e;
     }
-    return { set, input: [{ path, sha256: sha256(bytes), rows: set.bands.length }] };
+    return { set, input: [{ path: name, sha256: sha256(bytes), rows: set.bands.length }] };
   }
 
   const sidecarPath = metaPath ?? `${path}.json`;
@@ -57,7 +60,7 @@ export async function readProfiles(
     if (metaPath === undefined && (e as NodeJS.ErrnoException).code === 'ENOENT') {
       throw new InputError(
         `no sidecar JSON for this array: looked for ${sidecarPath} (give another with --meta FILE)`,
-        { file: path },
+        { file: name },
       );
     }
     throw e;
@@ -68,7 +71,7 @@ export async function readProfiles(
   try {
     array = readNpy(bytes);
   } catch (e) {
-    throw inFile(path, e);
+    throw inFile(name, e);
   }
   let meta: unknown;
   try {
@@ -80,13 +83,13 @@ export async function readProfiles(
   try {
     set = profilesFromNpy(array, meta);
   } catch (e) {
-    throw inFile(e instanceof SidecarError ? sidecarPath : path, e);
+    throw inFile(e instanceof SidecarError ? sidecarPath : name, e);
   }
   const rows = set.bands.length;
   return {
     set,
     input: [
-      { path, sha256: sha256(bytes), rows },
+      { path: name, sha256: sha256(bytes), rows },
       { path: sidecarPath, sha256: sha256(metaBytes), rows },
     ],
   };

@@ -47,12 +47,18 @@ function firstChars(path: string): string {
 /**
  * Stream an arrival-time table, validating every row; `onRow` gets the parsed row and the raw
  * record (CSV: fields in header order; JSON: the object). Memory stays bounded for CSV and NDJSON.
+ * `name` is what errors call the file and what picks the layout by extension (default `path`;
+ * the server passes an upload's original name, its stored copy having none).
  */
-export async function streamToas(path: string, onRow: RowHandler): Promise<ReadSummary> {
+export async function streamToas(
+  path: string,
+  onRow: RowHandler,
+  name: string = path,
+): Promise<ReadSummary> {
   const size = statSync(path).size;
   const start = firstChars(path);
-  if (size === 0 || start.trim() === '') throw new InputError('the file is empty', { file: path });
-  const layout = detectLayout(path, start);
+  if (size === 0 || start.trim() === '') throw new InputError('the file is empty', { file: name });
+  const layout = detectLayout(name, start);
   try {
     if (layout === 'json') return { ...(await readJsonArray(path, onRow)), path, layout };
     const hash = createHash('sha256');
@@ -62,7 +68,7 @@ export async function streamToas(path: string, onRow: RowHandler): Promise<ReadS
       layout === 'csv' ? await readCsv(path, stream, onRow) : await readNdjson(stream, onRow);
     return { ...r, path, layout, sha256: hash.digest('hex') };
   } catch (e) {
-    if (e instanceof InputError) throw e.inFile(path);
+    if (e instanceof InputError) throw e.inFile(name);
     throw e;
   }
 }
@@ -217,16 +223,21 @@ async function readJsonArray(path: string, onRow: RowHandler) {
   return { header, rows: value.length, sha256, mjdWasNumber };
 }
 
-/** Read a whole table into columns (dm fit, dm series). */
+/** Read a whole table into columns (dm fit, dm series); `name` as for `streamToas`. */
 export async function readToaTable(
   path: string,
+  name: string = path,
 ): Promise<{ table: ToaTable; summary: ReadSummary }> {
   let table: ToaTable | undefined;
   // rows of arrival-time tables take 30–60 bytes: size the columns once, generously
   const expectedRows = Math.max(1024, statSync(path).size / 26);
-  const summary = await streamToas(path, (row, _raw, header) => {
-    table ??= new ToaTable(header, expectedRows);
-    table.push(row);
-  });
+  const summary = await streamToas(
+    path,
+    (row, _raw, header) => {
+      table ??= new ToaTable(header, expectedRows);
+      table.push(row);
+    },
+    name,
+  );
   return { table: table!, summary };
 }

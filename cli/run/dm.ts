@@ -30,6 +30,8 @@ export interface FitCliOptions extends CommonOptions {
   scatter?: 'none' | 'fixed' | 'free';
   alpha?: number;
   refFreq?: number;
+  /** what results and errors call FILE (default FILE; the server passes the upload's name) */
+  inputName?: string;
 }
 
 function fitOptions(o: FitCliOptions): DmFitOptions {
@@ -60,12 +62,15 @@ function fitOptions(o: FitCliOptions): DmFitOptions {
 
 export async function runDmFit(file: string, o: FitCliOptions): Promise<DmFitResult> {
   const opts = fitOptions(o);
-  const { table: t, summary } = await withProgress(o, `reading ${file}`, () => readToaTable(file));
+  const name = o.inputName ?? file;
+  const { table: t, summary } = await withProgress(o, `reading ${name}`, () =>
+    readToaTable(file, name),
+  );
   const visits = await withProgress(o, `fitting ${t.length} arrival times`, async () => {
     try {
       return fitDmVisits(t, opts);
     } catch (e) {
-      throw e instanceof InputError ? e.inFile(file) : e;
+      throw e instanceof InputError ? e.inFile(name) : e;
     }
   });
   const fitted = visits.filter((v) => v.status === 'fitted').length;
@@ -94,7 +99,7 @@ export async function runDmFit(file: string, o: FitCliOptions): Promise<DmFitRes
       mode: t.header.hasResidual ? 'residuals' : 'arrival_times',
       receiver_offsets: t.header.hasReceiver,
     },
-    input: [{ path: file, sha256: summary.sha256, rows: summary.rows }],
+    input: [{ path: name, sha256: summary.sha256, rows: summary.rows }],
     cautions: [CAUTION],
     summary: {
       n_visits: visits.length,
@@ -269,7 +274,8 @@ function readPositions(o: SeriesCliOptions, sources: string[]): Map<string, Posi
 }
 
 async function loadFit(file: string, o: SeriesCliOptions): Promise<DmFitResult> {
-  if (file.toLowerCase().endsWith('.json')) {
+  const name = o.inputName ?? file;
+  if (name.toLowerCase().endsWith('.json')) {
     const text = readFileSync(file, 'utf8');
     if (text.includes('"sightline/dm-fit@1"')) {
       // the fit is already made: options that would change it must not be silently ignored
@@ -286,20 +292,20 @@ async function loadFit(file: string, o: SeriesCliOptions): Promise<DmFitResult> 
       ).filter(([, v]) => v !== undefined);
       if (given.length) {
         throw usageError(
-          `${file} is a finished DM fit: ${given.map(([k]) => k).join(', ')} would change the fit, so give the arrival-time table instead`,
+          `${name} is a finished DM fit: ${given.map(([k]) => k).join(', ')} would change the fit, so give the arrival-time table instead`,
         );
       }
       const parsed = dmFitResultSchema.safeParse(JSON.parse(text));
       if (!parsed.success) {
         const issue = parsed.error.issues[0];
         throw new InputError(`not a valid dm-fit result: ${issue.message}`, {
-          file,
+          file: name,
           column: issue.path.join('.'),
         });
       }
       if (o.constant && o.constant !== parsed.data.constant.name) {
         throw usageError(
-          `${file} was fitted with the ${parsed.data.constant.name} constant, not ${o.constant}`,
+          `${name} was fitted with the ${parsed.data.constant.name} constant, not ${o.constant}`,
         );
       }
       return parsed.data;

@@ -15,6 +15,8 @@ export interface ScatterCliOptions extends CommonOptions {
   refFreq: number;
   dm?: number;
   plot?: string;
+  /** what results and errors call FILE (default FILE; the server passes the upload's name) */
+  inputName?: string;
 }
 
 export async function runScatter(file: string, o: ScatterCliOptions): Promise<ScatterFitResult> {
@@ -22,7 +24,8 @@ export async function runScatter(file: string, o: ScatterCliOptions): Promise<Sc
     throw usageError('--model template needs --template FILE');
   if (o.template && o.model !== 'template')
     throw usageError('--template goes with --model template');
-  const { set, input } = await readProfiles(file, o.meta);
+  const name = o.inputName ?? file;
+  const { set, input } = await readProfiles(file, o.meta, name);
   let template: Float64Array | undefined;
   if (o.template) {
     const t = await readProfiles(o.template);
@@ -45,7 +48,7 @@ export async function runScatter(file: string, o: ScatterCliOptions): Promise<Sc
         dm: o.dm,
       });
     } catch (e) {
-      if (e instanceof RangeError) throw usageError(`${file}: ${e.message}`);
+      if (e instanceof RangeError) throw usageError(`${name}: ${e.message}`);
       throw e;
     }
   });

@@ -4,3 +4,6 @@ export * from './solar.js';
 export * from './dm-fit.js';
 export * from './dm-series.js';
 export * from './scatter-fit.js';
+export * from './review.js';
+export * from './analysis.js';
+export * from './api.js';

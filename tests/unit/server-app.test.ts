@@ -1,47 +1,48 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import type { Server } from 'node:http';
-import type { AddressInfo } from 'node:net';
-import { createApp } from '../../server/app.js';
-import { tempDir } from '../helpers/cli.js';
+import { startTestServer, type TestServer } from '../helpers/server.js';
 
-const { dir, cleanup } = tempDir();
-let server: Server;
-let base: string;
+let t: TestServer;
 
 beforeAll(async () => {
-  mkdirSync(join(dir, 'assets'));
-  writeFileSync(join(dir, 'index.html'), '<!doctype html><title>Sightline</title>');
-  writeFileSync(join(dir, 'assets', 'app.js'), 'console.log(1)');
-  server = createApp({ webDir: dir }).listen(0, '127.0.0.1');
-  await new Promise((resolve) => server.once('listening', resolve));
-  base = `http://127.0.0.1:${(server.address() as AddressInfo).port}`;
-});
-afterAll(() => {
-  server.close();
-  cleanup();
-});
+  t = await startTestServer('pglite', {});
+  const web = join(t.dataDir, '..', 'web');
+  mkdirSync(join(web, 'assets'), { recursive: true });
+  writeFileSync(join(web, 'assets', 'app.js'), 'console.log(1)');
+}, 60_000);
+afterAll(() => t?.close());
 
 describe('server entry point', () => {
-  it('answers /api/health with the software version', async () => {
-    const r = await fetch(`${base}/api/health`);
+  it('answers /api/health with the software version and the database engine', async () => {
+    const r = await fetch(`${t.url}/api/health`);
     expect(r.status).toBe(200);
-    expect(await r.json()).toMatchObject({ status: 'ok', software: { name: 'sightline' } });
+    expect(await r.json()).toMatchObject({
+      status: 'ok',
+      software: { name: 'sightline' },
+      database: { engine: 'pglite', status: 'ok' },
+    });
   });
 
   it('unknown API routes and missing assets are JSON 404s', async () => {
     for (const path of ['/api/nope', '/assets/missing.js']) {
-      const r = await fetch(base + path);
+      const r = await fetch(t.url + path);
       expect(r.status, path).toBe(404);
       expect(((await r.json()) as { error: { code: string } }).error.code).toBe('not_found');
     }
   });
 
   it('serves the web app and falls back to it for client-side routes', async () => {
-    expect(await (await fetch(`${base}/assets/app.js`)).text()).toBe('console.log(1)');
-    const page = await fetch(`${base}/runs/42`);
+    expect(await (await fetch(`${t.url}/assets/app.js`)).text()).toBe('console.log(1)');
+    const page = await fetch(`${t.url}/runs/42`);
     expect(page.status).toBe(200);
     expect(await page.text()).toMatch(/<title>Sightline<\/title>/);
+  });
+
+  it('sends security headers (helmet) and a request id', async () => {
+    const r = await fetch(`${t.url}/api/health`);
+    expect(r.headers.get('x-content-type-options')).toBe('nosniff');
+    expect(r.headers.get('content-security-policy')).toMatch(/default-src 'self'/);
+    expect(r.headers.get('x-request-id')).toMatch(/^[0-9a-f-]{36}$/);
   });
 });

@@ -1,0 +1,84 @@
+// One database handle for the whole server: embedded PostgreSQL (PGlite) in a data directory by
+// default, or a PostgreSQL server through node-postgres when DATABASE_URL is set. Both speak the
+// same SQL, run the same migrations (drizzle/) and expose the same Drizzle API.
+import { existsSync, mkdirSync } from 'node:fs';
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
+import * as schema from './schema.js';
+
+export type Db = PgDatabase<PgQueryResultHKT, typeof schema>;
+
+export interface Database {
+  db: Db;
+  /** 'pglite' (embedded, single process) or 'postgres' (a server) */
+  engine: 'pglite' | 'postgres';
+  /** where the data lives: a folder for PGlite, the URL without its password for PostgreSQL */
+  location: string;
+  migrate(): Promise<void>;
+  close(): Promise<void>;
+}
+
+export interface DatabaseOptions {
+  /** PostgreSQL connection string; when absent the embedded database in `dataDir` is used */
+  url?: string;
+  /** folder holding the embedded database (`<dataDir>/db`) and the uploads */
+  dataDir: string;
+  migrationsFolder?: string;
+}
+
+/** drizzle/ sits at the package root: two levels above dist/server/, one above server/db/… */
+export function defaultMigrationsFolder(): string {
+  let dir = path.dirname(fileURLToPath(import.meta.url));
+  for (let i = 0; i < 5; i++) {
+    const candidate = path.join(dir, 'drizzle', 'meta', '_journal.json');
+    if (existsSync(candidate)) return path.join(dir, 'drizzle');
+    dir = path.dirname(dir);
+  }
+  throw new Error('cannot find the drizzle/ migrations folder beside the Sightline package');
+}
+
+function redact(url: string): string {
+  try {
+    const u = new URL(url);
+    if (u.password) u.password = '***';
+    return u.toString();
+  } catch {
+    return 'postgres://(unparsable URL)';
+  }
+}
+
+export async function openDatabase(options: DatabaseOptions): Promise<Database> {
+  const migrationsFolder = options.migrationsFolder ?? defaultMigrationsFolder();
+  if (options.url) {
+    const { default: pg } = await import('pg');
+    const { drizzle } = await import('drizzle-orm/node-postgres');
+    const { migrate } = await import('drizzle-orm/node-postgres/migrator');
+    const pool = new pg.Pool({ connectionString: options.url, max: 10 });
+    // fail now, with a clear message, rather than on the first request
+    const probe = await pool.connect();
+    probe.release();
+    const db = drizzle({ client: pool, schema }) as unknown as Db;
+    return {
+      db,
+      engine: 'postgres',
+      location: redact(options.url),
+      migrate: () => migrate(db as never, { migrationsFolder }),
+      close: () => pool.end(),
+    };
+  }
+  const { PGlite } = await import('@electric-sql/pglite');
+  const { drizzle } = await import('drizzle-orm/pglite');
+  const { migrate } = await import('drizzle-orm/pglite/migrator');
+  const folder = path.resolve(options.dataDir, 'db');
+  mkdirSync(folder, { recursive: true });
+  const client = await PGlite.create(folder);
+  const db = drizzle({ client, schema }) as unknown as Db;
+  return {
+    db,
+    engine: 'pglite',
+    location: folder,
+    migrate: () => migrate(db as never, { migrationsFolder }),
+    close: () => client.close(),
+  };
+}
