@@ -22,8 +22,29 @@ const common = {
     js: "import { createRequire as __createRequire } from 'node:module'; const require = __createRequire(import.meta.url);",
   },
 };
+// The server's packages load their own files at run time (PGlite its WebAssembly and data,
+// piscina and pino their worker scripts) or are large: they stay in node_modules.
+const serverPackages = [
+  '@electric-sql/pglite',
+  'pg',
+  'drizzle-orm',
+  'better-auth',
+  '@better-auth/*',
+  'pino',
+  'pino-http',
+  'piscina',
+  'nodemailer',
+  'smtp-server',
+  'multer',
+  'helmet',
+  'express',
+  'express-rate-limit',
+  'xmlbuilder2',
+  'proper-lockfile',
+];
 await build({
   ...common,
+  external: [...common.external, ...serverPackages],
   entryPoints: { main: 'cli/main.ts' },
   outdir: 'dist/cli',
   splitting: true,
@@ -31,6 +52,7 @@ await build({
 });
 await build({
   ...common,
+  external: [...common.external, ...serverPackages],
   entryPoints: { main: 'server/main.ts' },
   outdir: 'dist/server',
 });

@@ -7,6 +7,7 @@ import { dmCommand } from './commands/dm.js';
 import { toasCommand } from './commands/toas.js';
 import { demoCommand } from './commands/demo.js';
 import { scatterCommand } from './commands/scatter.js';
+import { baselineCommand, runsCommand, serveCommand } from './commands/review.js';
 
 export function buildProgram(): Command {
   const program = new Command('sightline')
@@ -23,6 +24,9 @@ export function buildProgram(): Command {
     dmCommand(),
     toasCommand(),
     scatterCommand(),
+    runsCommand(),
+    baselineCommand(),
+    serveCommand(),
     demoCommand(),
   ])
     program.addCommand(c);

@@ -6,6 +6,9 @@ import { pino, type Logger } from 'pino';
 import { createAuth } from './auth/auth.js';
 import type { Services } from './context.js';
 import { openDatabase } from './db/client.js';
+import { user } from './db/schema.js';
+import { writeAudit } from './services/audit.js';
+import { eq } from 'drizzle-orm';
 import { createAnalysisPool } from './jobs/pool.js';
 import { createAnalysisRunner } from './jobs/runner.js';
 import { startMailCatcher, type MailCatcher } from './mail/catcher.js';
@@ -63,6 +66,19 @@ export async function createServices(c: ServerConfig): Promise<RunningServices> 
       secret,
       trustedOrigins: c.trustedOrigins,
       minPasswordLength: c.minPasswordLength,
+      log: (level, message) => logger[level]({ component: 'auth' }, message),
+      onSignIn: async ({ userId, ipAddress, userAgent }) => {
+        const [u] = await database.db
+          .select({ id: user.id, email: user.email })
+          .from(user)
+          .where(eq(user.id, userId));
+        await writeAudit(database.db, u ?? null, {
+          action: 'auth.sign_in',
+          targetType: 'user',
+          targetId: userId,
+          after: { ip: ipAddress ?? null, user_agent: userAgent ?? null },
+        });
+      },
     });
     if (!c.smtpUrl) catcher = await startMailCatcher(database.db, logger);
     const smtpUrl = c.smtpUrl ?? catcher!.url;

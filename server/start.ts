@@ -1,9 +1,8 @@
 // Start the review server: database (migrated), services, HTTP; stop it cleanly on a signal.
-import type { Server } from 'node:http';
+import type { IncomingMessage, Server, ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
-import path from 'node:path';
-import { fileURLToPath } from 'node:url';
 import { createApp } from './app.js';
+import { distDir } from './paths.js';
 import { createServices, type RunningServices, type ServerConfig } from './services.js';
 
 export interface StartOptions extends Omit<ServerConfig, 'publicUrl'> {
@@ -22,18 +21,23 @@ export interface RunningServer {
   close(): Promise<void>;
 }
 
-/** Bundled as dist/server/*.js or dist/cli/*.js the web app is in dist/web; from source too. */
-export function defaultWebDir(): string {
-  const here = path.dirname(fileURLToPath(import.meta.url));
-  const inDist = path.basename(path.dirname(here)) === 'dist';
-  return path.resolve(here, inDist ? '../web' : '../dist/web');
-}
+/** The built web app (vite build): dist/web of the package. */
+export const defaultWebDir = () => distDir('web');
 
 export async function startServer(o: StartOptions): Promise<RunningServer> {
   const hostForUrl = o.host.includes(':') ? `[${o.host}]` : o.host;
-  // the port may be 0 (any free one): bind first, then build the services with the real URL
+  // The port may be 0 (any free one): bind first, then build the services with the real URL.
+  // Until they are ready every request gets a prompt 503, never a connection left hanging.
   const { createServer } = await import('node:http');
-  const server = createServer();
+  const ready: { app?: (req: IncomingMessage, res: ServerResponse) => void } = {};
+  const server = createServer((req, res) => {
+    if (ready.app) {
+      ready.app(req, res);
+      return;
+    }
+    res.writeHead(503, { 'content-type': 'application/json', 'retry-after': '1' });
+    res.end(JSON.stringify({ error: { code: 'starting', message: 'the server is starting' } }));
+  });
   await new Promise<void>((resolve, reject) => {
     server.once('error', reject);
     server.listen(o.port, o.host, () => resolve());
@@ -47,12 +51,11 @@ export async function startServer(o: StartOptions): Promise<RunningServer> {
     server.close();
     throw err;
   }
-  const app = createApp({
+  ready.app = createApp({
     webDir: o.webDir ?? defaultWebDir(),
     services,
     trustProxy: o.trustProxy,
   });
-  server.on('request', app);
   await services.analyses.resume();
   let closing: Promise<void> | undefined;
   return {
@@ -64,6 +67,8 @@ export async function startServer(o: StartOptions): Promise<RunningServer> {
         await new Promise<void>((resolve) => {
           server.close(() => resolve());
           server.closeIdleConnections();
+          // requests still running after a grace period are cut, so shutdown always ends
+          setTimeout(() => server.closeAllConnections(), 5_000).unref();
         });
         await services.close();
       })();

@@ -1,6 +1,7 @@
 import { Command } from 'commander';
 import { numberOption } from '../common.js';
 import type { DemoOptions } from '../run/demo.js';
+import type { SeedOptions } from '../run/demo-seed.js';
 
 export function demoCommand(): Command {
   const generate = new Command('generate')
@@ -18,5 +19,20 @@ export function demoCommand(): Command {
     .option('--quiet', 'print nothing')
     .addHelpText('after', '\nExample:\n  sightline demo generate --out demo-data --seed 1')
     .action(async (o: DemoOptions) => (await import('../run/demo.js')).runDemo(o));
-  return new Command('demo').description('the fictional demo data set').addCommand(generate);
+  const seed = new Command('seed')
+    .description(
+      "prepare the review server's database for the demo: the team's accounts, the pulsars, robot tokens",
+    )
+    .requiredOption('--catalogue <file>', 'pulsars.json written by demo generate')
+    .option('--data-dir <dir>', 'the server data folder (default: ./data)', 'data')
+    .option('--quiet', 'print nothing')
+    .addHelpText(
+      'after',
+      '\nRun it while the server is stopped. Sign-ins are written to DIR/demo-sign-ins.json.',
+    )
+    .action(async (o: SeedOptions) => (await import('../run/demo-seed.js')).runDemoSeed(o));
+  return new Command('demo')
+    .description('the fictional demo data set')
+    .addCommand(generate)
+    .addCommand(seed);
 }

@@ -18,6 +18,14 @@ export interface AuthOptions {
   trustedOrigins?: string[];
   /** minimum password length for new accounts */
   minPasswordLength?: number;
+  /** where better-auth's own messages go (the server's pino logger) */
+  log?: (level: 'debug' | 'info' | 'warn' | 'error', message: string) => void;
+  /** called after every successful sign-in (a new session), for the audit trail */
+  onSignIn?: (session: {
+    userId: string;
+    ipAddress?: string | null;
+    userAgent?: string | null;
+  }) => Promise<void>;
 }
 
 /** Robot tokens look like `sl_…` so they are easy to spot in logs and secret scanners. */
@@ -26,6 +34,12 @@ export const TOKEN_PREFIX = 'sl_';
 export function createAuth(o: AuthOptions) {
   return betterAuth({
     appName: 'Sightline',
+    // refused tokens and passwords are normal traffic: they reach the log as warnings at most
+    logger: {
+      level: 'warn',
+      log: (level, message) =>
+        o.log?.(level === 'error' && /API key|password/i.test(message) ? 'warn' : level, message),
+    },
     baseURL: o.baseURL,
     basePath: '/api/auth',
     secret: o.secret,
@@ -43,6 +57,15 @@ export function createAuth(o: AuthOptions) {
     session: {
       expiresIn: 60 * 60 * 24 * 7,
       updateAge: 60 * 60 * 24,
+    },
+    databaseHooks: {
+      session: {
+        create: {
+          after: async (session) => {
+            await o.onSignIn?.(session);
+          },
+        },
+      },
     },
     // sign-in attempts are limited by the Express layer (express-rate-limit), per address
     rateLimit: { enabled: false },

@@ -42,7 +42,7 @@ const SAFE = new Set(['GET', 'HEAD', 'OPTIONS']);
  * every POST; without one (curl, scripts) it must not be marked cross-site and must not carry
  * the form-encoded or text bodies a cross-site HTML form can send without a CORS preflight.
  */
-function checkOrigin(req: Request, trusted: string[]): void {
+export function checkOrigin(req: Request, trusted: string[]): void {
   if (SAFE.has(req.method)) return;
   const origin = req.headers.origin;
   if (origin !== undefined) {

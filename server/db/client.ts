@@ -1,10 +1,11 @@
 // One database handle for the whole server: embedded PostgreSQL (PGlite) in a data directory by
 // default, or a PostgreSQL server through node-postgres when DATABASE_URL is set. Both speak the
 // same SQL, run the same migrations (drizzle/) and expose the same Drizzle API.
-import { existsSync, mkdirSync } from 'node:fs';
+import { mkdirSync } from 'node:fs';
 import path from 'node:path';
-import { fileURLToPath } from 'node:url';
+import lockfile from 'proper-lockfile';
 import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
+import { packageRoot } from '../paths.js';
 import * as schema from './schema.js';
 
 export type Db = PgDatabase<PgQueryResultHKT, typeof schema>;
@@ -27,16 +28,8 @@ export interface DatabaseOptions {
   migrationsFolder?: string;
 }
 
-/** drizzle/ sits at the package root: two levels above dist/server/, one above server/db/… */
-export function defaultMigrationsFolder(): string {
-  let dir = path.dirname(fileURLToPath(import.meta.url));
-  for (let i = 0; i < 5; i++) {
-    const candidate = path.join(dir, 'drizzle', 'meta', '_journal.json');
-    if (existsSync(candidate)) return path.join(dir, 'drizzle');
-    dir = path.dirname(dir);
-  }
-  throw new Error('cannot find the drizzle/ migrations folder beside the Sightline package');
-}
+/** drizzle/ sits at the package root. */
+export const defaultMigrationsFolder = () => path.join(packageRoot(), 'drizzle');
 
 function redact(url: string): string {
   try {
@@ -72,13 +65,40 @@ export async function openDatabase(options: DatabaseOptions): Promise<Database> 
   const { migrate } = await import('drizzle-orm/pglite/migrator');
   const folder = path.resolve(options.dataDir, 'db');
   mkdirSync(folder, { recursive: true });
-  const client = await PGlite.create(folder);
-  const db = drizzle({ client, schema }) as unknown as Db;
-  return {
-    db,
-    engine: 'pglite',
-    location: folder,
-    migrate: () => migrate(db as never, { migrationsFolder }),
-    close: () => client.close(),
-  };
+  // The embedded database belongs to one process at a time. The lock is refreshed every second
+  // and counts as stale 5 s after its holder died, so a restart after a crash waits briefly
+  // instead of failing.
+  let release: () => Promise<void>;
+  try {
+    release = await lockfile.lock(folder, {
+      lockfilePath: `${folder}.lock`,
+      stale: 5_000,
+      update: 1_000,
+      retries: { retries: 12, minTimeout: 500, maxTimeout: 1_000 },
+    });
+  } catch (e) {
+    if ((e as NodeJS.ErrnoException).code === 'ELOCKED')
+      throw new Error(
+        `the database in ${folder} is in use by another Sightline process (a server or \`demo seed\`); stop it first`,
+        { cause: e },
+      );
+    throw e;
+  }
+  try {
+    const client = await PGlite.create(folder);
+    const db = drizzle({ client, schema }) as unknown as Db;
+    return {
+      db,
+      engine: 'pglite',
+      location: folder,
+      migrate: () => migrate(db as never, { migrationsFolder }),
+      close: async () => {
+        await client.close();
+        await release();
+      },
+    };
+  } catch (e) {
+    await release();
+    throw e;
+  }
 }

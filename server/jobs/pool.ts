@@ -3,6 +3,7 @@ import { availableParallelism } from 'node:os';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { Piscina } from 'piscina';
+import { distDir } from '../paths.js';
 import type { AnalysisKind } from '../../shared/schemas/analysis.js';
 import {
   AnalysisError,
@@ -15,16 +16,13 @@ export const WORKER_FILE_NAME = 'analysis-worker.js';
 
 /**
  * Where the built worker is: beside this module when it is bundled into dist/server/, and in
- * dist/server/ of the checkout when this module runs from source (Vitest, tsx). Worker threads
+ * the package's dist/server/ otherwise (from source under Vitest or tsx, or from a CLI chunk). Worker threads
  * run plain Node, which cannot load the TypeScript entry, so both use the esbuild bundle that
  * cli/build.mjs writes (`npm test` builds it first).
  */
 export function defaultWorkerFile(): string {
   const here = path.dirname(fileURLToPath(import.meta.url));
-  const candidates = [
-    path.join(here, WORKER_FILE_NAME),
-    path.resolve(here, '../../dist/server', WORKER_FILE_NAME),
-  ];
+  const candidates = [path.join(here, WORKER_FILE_NAME), distDir('server', WORKER_FILE_NAME)];
   const found = candidates.find((f) => existsSync(f));
   if (!found) {
     throw new Error(

@@ -1,4 +1,4 @@
-import { spawnSync } from 'node:child_process';
+import { spawn, spawnSync } from 'node:child_process';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
@@ -33,4 +33,27 @@ export function sightline(
 export function tempDir(prefix = 'sightline-test-'): { dir: string; cleanup: () => void } {
   const dir = mkdtempSync(join(tmpdir(), prefix));
   return { dir, cleanup: () => rmSync(dir, { recursive: true, force: true }) };
+}
+
+/**
+ * The CLI as a subprocess without blocking this process: needed when the server under test runs
+ * in the same process as the test (spawnSync would stop it from answering).
+ */
+export function sightlineAsync(
+  args: string[],
+  opts: { cwd?: string; env?: Record<string, string> } = {},
+): Promise<RunResult> {
+  return new Promise((resolvePromise, reject) => {
+    const child = spawn(process.execPath, [BIN, ...args], {
+      cwd: opts.cwd ?? ROOT,
+      env: { ...process.env, ...opts.env },
+      stdio: ['ignore', 'pipe', 'pipe'],
+    });
+    let stdout = '';
+    let stderr = '';
+    child.stdout.setEncoding('utf8').on('data', (c: string) => (stdout += c));
+    child.stderr.setEncoding('utf8').on('data', (c: string) => (stderr += c));
+    child.on('error', reject);
+    child.on('close', (code) => resolvePromise({ code: code ?? -1, stdout, stderr }));
+  });
 }
