@@ -17,7 +17,8 @@ import {
 import { checkFailed, usageError } from '../errors.js';
 import { readToaTable } from '../io/read-toas.js';
 import { writeOutput } from '../io/output.js';
-import { csv, fmt, json, jsonChunks, table, type Cell } from '../render.js';
+import { dmFitRows, seriesRows } from '../../shared/review/rows.js';
+import { csv, fmt, json, jsonChunks, table } from '../render.js';
 
 export interface FitCliOptions extends CommonOptions {
   gap?: number;
@@ -112,50 +113,11 @@ export async function runDmFit(file: string, o: FitCliOptions): Promise<DmFitRes
   return result;
 }
 
-const CHROMATIC_COLUMNS = [
-  'tau_ref_us',
-  'tau_ref_err_us',
-  'alpha',
-  'alpha_err',
-  'ref_freq_mhz',
-  'dm_tau_corr',
-  'preferred',
-] as const;
-
-const FIT_COLUMNS = [
-  'source',
-  'mjd',
-  'n_toas',
-  'n_freqs',
-  'freq_min_mhz',
-  'freq_max_mhz',
-  'status',
-  'dm',
-  'dm_err',
-  'dm_err_scaled',
-  'dm_kind',
-  'offset_us',
-  'chi2',
-  'dof',
-  'reduced_chi2',
-  'flagged_rows',
-  'warnings',
-] as const;
-
 function renderFit(r: DmFitResult, format: string): string | Iterable<string> {
   if (format === 'json') return jsonChunks(r);
   if (format === 'csv') {
-    const chromatic = r.visits.some((v) => v.tau_ref_us !== undefined);
-    const columns = [...FIT_COLUMNS, ...(chromatic ? CHROMATIC_COLUMNS : [])];
-    return csv(
-      columns,
-      r.visits.map((v) =>
-        columns.map((c) => {
-          const x = v[c as keyof typeof v];
-          return Array.isArray(x) ? x.join(';') : (x as Cell);
-        }),
-      ),
-    );
+    const { head, rows } = dmFitRows(r);
+    return csv(head, rows);
   }
   const kind = r.visits[0]?.dm_kind === 'offset' ? 'ΔDM' : 'DM';
   const chromatic = r.visits.some((v) => v.tau_ref_us !== undefined);
@@ -353,9 +315,10 @@ export async function runDmSeries(file: string, o: SeriesCliOptions): Promise<Dm
 
 function renderSeries(r: DmSeriesResult, format: string): string {
   if (format === 'json') return json(r);
-  const head = ['source', 'mjd', 'dm', 'dm_err', 'n_toas', 'dm_solar'];
-  const rows = r.points.map((p) => [p.source, p.mjd, p.dm, p.dm_err, p.n_toas, p.dm_solar]);
-  if (format === 'csv') return csv(head, rows);
+  if (format === 'csv') {
+    const { head, rows } = seriesRows(r);
+    return csv(head, rows);
+  }
   let text = `constant ${r.constant.name}${r.solar ? ` · solar wind n0 = ${r.solar.n0_cm3} cm⁻³ subtracted` : ''}\n`;
   text += table(
     ['source', 'kind', 'points', 'unconstr.', 'reference DM', 'GP amplitude', 'GP length (d)'],

@@ -5,6 +5,7 @@ import { CAUTION, formatOf, note, SOFTWARE, withProgress, type CommonOptions } f
 import { checkFailed, usageError } from '../errors.js';
 import { readProfiles } from '../io/read-profiles.js';
 import { writeFileAtomic, writeOutput } from '../io/output.js';
+import { bandRows } from '../../shared/review/rows.js';
 import { csv, fmt, jsonChunks, table } from '../render.js';
 
 export interface ScatterCliOptions extends CommonOptions {
@@ -69,25 +70,12 @@ export async function runScatter(file: string, o: ScatterCliOptions): Promise<Sc
   return result;
 }
 
-const BAND_COLUMNS = [
-  'freq_mhz',
-  'status',
-  'tau_us',
-  'tau_err_us',
-  'tau_upper_us',
-  'chi2',
-  'dof',
-  'reduced_chi2',
-  'snr',
-] as const;
-
 function render(r: ScatterFitResult, format: string): string | Iterable<string> {
   if (format === 'json') return jsonChunks(r);
-  if (format === 'csv')
-    return csv(
-      [...BAND_COLUMNS],
-      r.bands.map((b) => BAND_COLUMNS.map((c) => b[c] ?? null)),
-    );
+  if (format === 'csv') {
+    const { head, rows } = bandRows(r);
+    return csv(head, rows);
+  }
   let text = `${r.source} · MJD ${r.mjd} · P = ${fmt(r.period_s * 1e3)} ms · ${r.nbin} bins · model ${r.model}\n`;
   text += table(
     ['freq (MHz)', 'status', 'τ (µs)', 'σ_τ (µs)', 'χ²_red', 'S/N'],

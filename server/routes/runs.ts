@@ -25,6 +25,15 @@ export function runId(raw: string | string[] | undefined): string {
 
 export function runsRouter(s: Services): Router {
   const r = Router();
+  const reviewsOf = async (id: string) =>
+    (
+      await s.db
+        .select({ review: reviews, reviewer: { email: user.email, name: user.name } })
+        .from(reviews)
+        .innerJoin(user, eq(reviews.reviewerId, user.id))
+        .where(eq(reviews.runId, id))
+        .orderBy(reviews.createdAt)
+    ).map((x) => reviewView(x.review, x.reviewer));
 
   r.get('/runs', anyone, async (req, res) => {
     const q = parseBody(listRunsQuery, req.query, 'query');
@@ -105,12 +114,7 @@ export function runsRouter(s: Services): Router {
   r.get('/runs/:id', anyone, async (req, res) => {
     const id = runId(req.params.id);
     const { row, view } = await getRun(s, id);
-    const list = await s.db
-      .select({ review: reviews, reviewer: { email: user.email, name: user.name } })
-      .from(reviews)
-      .innerJoin(user, eq(reviews.reviewerId, user.id))
-      .where(eq(reviews.runId, id))
-      .orderBy(reviews.createdAt);
+    const list = await reviewsOf(id);
     const [baseline] = await s.db
       .select({ id: baselines.id, state: baselines.state })
       .from(baselines)
@@ -120,7 +124,7 @@ export function runsRouter(s: Services): Router {
     res.json({
       ...view,
       baseline: baseline ?? null,
-      reviews: list.map((x) => reviewView(x.review, x.reviewer)),
+      reviews: list,
       result: row.run.result,
     });
   });
@@ -158,13 +162,8 @@ export function runsRouter(s: Services): Router {
   r.get('/runs/:id/reviews', anyone, async (req, res) => {
     const id = runId(req.params.id);
     await getRun(s, id);
-    const list = await s.db
-      .select({ review: reviews, reviewer: { email: user.email, name: user.name } })
-      .from(reviews)
-      .innerJoin(user, eq(reviews.reviewerId, user.id))
-      .where(eq(reviews.runId, id))
-      .orderBy(reviews.createdAt);
-    res.json({ items: list.map((x) => reviewView(x.review, x.reviewer)) });
+    const list = await reviewsOf(id);
+    res.json({ items: list });
   });
 
   r.post('/runs/:id/reviews', contributor, async (req, res) => {
