@@ -54,8 +54,14 @@ export function createApp({ webDir, services: s, trustProxy }: AppOptions): expr
   app.use('/api', healthRouter(s));
   // better-auth reads its own bodies: before express.json()
   app.use('/api', authRouter(s));
-  app.use('/api', express.json({ limit: s.limits.jsonBytes }));
   app.use('/api', authenticate(s));
+  // nobody unknown gets a large body read and parsed: state changes need a caller first
+  app.use('/api', (req, res, next) => {
+    if (!req.actor && !['GET', 'HEAD', 'OPTIONS'].includes(req.method))
+      sendError(res, 401, 'unauthenticated', 'sign in or send an API token');
+    else next();
+  });
+  app.use('/api', express.json({ limit: s.limits.jsonBytes }));
   app.use('/api', peopleRouter(s));
   app.use('/api', pulsarsRouter(s));
   app.use('/api', runsRouter(s));

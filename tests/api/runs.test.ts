@@ -319,5 +319,9 @@ describe.each(ENGINES)('correction runs on %s', (engine) => {
       after: { state: 'in_review', version: 2 },
     });
     expect(submit.request_id).toMatch(/^[0-9a-f-]{36}$/);
+    // every sign-in is in the trail too (each test person signed in once at start)
+    const signIns = await get('admin', '/api/audit?action=auth.sign_in&page_size=100');
+    const who = signIns.body.items.map((a: { actor: { email: string } }) => a.actor.email);
+    for (const p of Object.values(t.people)) expect(who).toContain(p.email);
   });
 });
