@@ -299,6 +299,26 @@ export const jobs = pgTable(
   (t) => [index('jobs_state_idx').on(t.state)],
 );
 
+/** Every baseline check (CI after a pipeline change): its verdict per pulsar and kind. */
+export const baselineChecks = pgTable(
+  'baseline_checks',
+  {
+    id: bigserial('id', { mode: 'number' }).primaryKey(),
+    pulsarName: text('pulsar_name').notNull(),
+    kind: text('kind').notNull(),
+    /** pass | fail | no_baseline */
+    status: text('status').notNull(),
+    baselineRunId: uuid('baseline_run_id'),
+    nFailed: integer('n_failed').notNull(),
+    worstDeviationSigma: doublePrecision('worst_deviation_sigma'),
+    toleranceSigma: doublePrecision('tolerance_sigma').notNull(),
+    softwareVersion: text('software_version'),
+    checkedBy: text('checked_by').references(() => user.id),
+    createdAt: created(),
+  },
+  (t) => [index('baseline_checks_pulsar_idx').on(t.pulsarName, t.kind, t.createdAt)],
+);
+
 export const ROLES = ['viewer', 'analyst', 'lead', 'admin'] as const;
 export type Role = (typeof ROLES)[number];
 export const RUN_STATES = ['draft', 'in_review', 'approved', 'returned', 'superseded'] as const;

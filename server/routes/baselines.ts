@@ -13,11 +13,31 @@ import {
   type BaselineCheckEntry,
   type BaselineCheckResponse,
 } from '../../shared/schemas/review.js';
-import { anyone } from '../auth/middleware.js';
+import { actorOf, anyone } from '../auth/middleware.js';
 import type { Services } from '../context.js';
-import { baselines, pulsars, runs, user } from '../db/schema.js';
+import { baselineChecks, baselines, pulsars, runs, user } from '../db/schema.js';
 import { ApiError, parseBody } from '../errors.js';
 import { getRun } from '../services/runs.js';
+
+const worstDeviation = (items: BaselineCheckEntry['items']): number | null =>
+  items.reduce<number | null>(
+    (m, i) =>
+      i.deviation_sigma === null || i.deviation_sigma === undefined
+        ? m
+        : Math.max(m ?? 0, Math.abs(i.deviation_sigma)),
+    null,
+  );
+
+/** The software version of the result an entry came from (entries follow results in order). */
+function softwareOf(results: { software: { version: string } }[], index: number): string | null {
+  let seen = 0;
+  for (const r of results) {
+    const n = sourcesOf(r as RunResult).length;
+    if (index < seen + n) return r.software.version;
+    seen += n;
+  }
+  return null;
+}
 
 export function baselinesRouter(s: Services): Router {
   const r = Router();
@@ -37,8 +57,27 @@ export function baselinesRouter(s: Services): Router {
       .innerJoin(user, eq(baselines.setBy, user.id))
       .where(all ? undefined : eq(baselines.state, 'active'))
       .orderBy(pulsars.name, baselines.kind, desc(baselines.id));
+    const checks = await s.db
+      .selectDistinctOn([baselineChecks.pulsarName, baselineChecks.kind])
+      .from(baselineChecks)
+      .orderBy(baselineChecks.pulsarName, baselineChecks.kind, desc(baselineChecks.createdAt));
+    const lastCheck = new Map(checks.map((c) => [`${c.pulsarName}\u0000${c.kind}`, c]));
     res.json({
       items: rows.map((x) => ({
+        last_check: (() => {
+          const c =
+            x.b.state === 'active' ? lastCheck.get(`${x.pulsar}\u0000${x.b.kind}`) : undefined;
+          return c
+            ? {
+                status: c.status,
+                n_failed: c.nFailed,
+                worst_deviation_sigma: c.worstDeviationSigma,
+                tolerance_sigma: c.toleranceSigma,
+                software_version: c.softwareVersion,
+                checked_at: c.createdAt.toISOString(),
+              }
+            : null;
+        })(),
         id: x.b.id,
         pulsar: x.pulsar,
         kind: x.b.kind,
@@ -102,6 +141,22 @@ export function baselinesRouter(s: Services): Router {
         });
       }
     }
+    // the verdicts are kept: the overview shows each reference pulsar's last check
+    const actor = actorOf(req);
+    if (results.length)
+      await s.db.insert(baselineChecks).values(
+        results.map((x, i) => ({
+          pulsarName: x.source,
+          kind: x.kind,
+          status: x.status,
+          baselineRunId: x.baseline_run_id,
+          nFailed: x.n_failed,
+          worstDeviationSigma: worstDeviation(x.items),
+          toleranceSigma: body.tolerance_sigma,
+          softwareVersion: softwareOf(body.results, i),
+          checkedBy: actor.id,
+        })),
+      );
     const out: BaselineCheckResponse = {
       schema: 'sightline/baseline-check@1',
       tolerance_sigma: body.tolerance_sigma,

@@ -1,5 +1,5 @@
 import { stringify } from 'csv-stringify/sync';
-import { and, count, desc, eq, gte, inArray, lte, type SQL } from 'drizzle-orm';
+import { and, count, desc, eq, gte, inArray, like, lte, or, sql, type SQL } from 'drizzle-orm';
 import { Router } from 'express';
 import { resultRows } from '../../shared/review/rows.js';
 import type { RunResult } from '../../shared/review/summary.js';
@@ -11,7 +11,7 @@ import {
 } from '../../shared/schemas/api.js';
 import { actorOf, anyone, contributor } from '../auth/middleware.js';
 import type { Services } from '../context.js';
-import { baselines, pulsars, reviews, runs, user } from '../db/schema.js';
+import { audit, baselines, pulsars, reviews, runs, user } from '../db/schema.js';
 import { badRequest, parseBody } from '../errors.js';
 import { createRun, getRun, reviewRun, reviewView, runView, submitRun } from '../services/runs.js';
 
@@ -102,6 +102,42 @@ export function runsRouter(s: Services): Router {
       page: q.page,
       page_size: q.page_size,
       total,
+    });
+  });
+
+  /** What happened to runs lately (state changes, reviews, baselines), for everyone. */
+  r.get('/activity', anyone, async (req, res) => {
+    const limit = Math.min(100, Math.max(1, Number(req.query.limit) || 30));
+    const rows = await s.db
+      .select({
+        id: audit.id,
+        action: audit.action,
+        actor: audit.actorEmail,
+        targetId: audit.targetId,
+        after: audit.after,
+        createdAt: audit.createdAt,
+        pulsar: pulsars.name,
+        kind: runs.kind,
+      })
+      .from(audit)
+      .leftJoin(runs, sql`${audit.targetType} = 'run' and ${runs.id}::text = ${audit.targetId}`)
+      .leftJoin(pulsars, eq(runs.pulsarId, pulsars.id))
+      .where(or(like(audit.action, 'run.%'), like(audit.action, 'baseline.%')))
+      .orderBy(desc(audit.id))
+      .limit(limit);
+    res.json({
+      items: rows.map((x) => {
+        const after = (x.after ?? {}) as { pulsar?: string; kind?: string; run?: string };
+        return {
+          id: x.id,
+          action: x.action,
+          actor: x.actor,
+          run_id: x.action.startsWith('run.') ? x.targetId : (after.run ?? null),
+          pulsar: x.pulsar ?? after.pulsar ?? null,
+          kind: x.kind ?? after.kind ?? null,
+          created_at: x.createdAt.toISOString(),
+        };
+      }),
     });
   });
 

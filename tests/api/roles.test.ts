@@ -405,6 +405,12 @@ describe.each(ENGINES)('roles × routes on %s', (engine) => {
 
     // ── baselines and compare ──
     {
+      route: 'GET /api/activity',
+      may: MAY.read,
+      ok: 200,
+      make: () => ({ method: 'get', path: '/api/activity' }),
+    },
+    {
       route: 'GET /api/baselines',
       may: MAY.read,
       ok: 200,

@@ -301,6 +301,28 @@ describe.each(ENGINES)('correction runs on %s', (engine) => {
     expect(back.status).toBe('sent');
   });
 
+  it('keeps each baseline check and shows the last one beside the baseline; lists activity', async () => {
+    const moved = quietFit('SBP-B', 2e-5);
+    moved.visits[0].dm = (moved.visits[0].dm as number) + 5e-4; // 5σ of the baseline's 1e-4
+    const r = await post('guest', '/api/baselines/check', { results: [moved] });
+    expect(r.status).toBe(200);
+    expect(r.body.pass).toBe(false);
+    const b = await get('guest', '/api/baselines');
+    const sbpB = b.body.items.find((x: { pulsar: string }) => x.pulsar === 'SBP-B');
+    expect(sbpB.last_check).toMatchObject({ status: 'fail', n_failed: 1, tolerance_sigma: 3 });
+    expect(sbpB.last_check.worst_deviation_sigma).toBeCloseTo(5, 6);
+    const ok = await post('guest', '/api/baselines/check', { results: [quietFit('SBP-B', 2e-5)] });
+    expect(ok.body.pass).toBe(true);
+    const again = await get('guest', '/api/baselines');
+    expect(
+      again.body.items.find((x: { pulsar: string }) => x.pulsar === 'SBP-B').last_check.status,
+    ).toBe('pass');
+    const activity = await get('guest', '/api/activity?limit=5');
+    expect(activity.status).toBe(200);
+    expect(activity.body.items).toHaveLength(5);
+    expect(activity.body.items[0]).toHaveProperty('action');
+  });
+
   it('writes an audit entry for every state change', async () => {
     const made = await post('ana', '/api/runs', { result: quietFit('SBP-C', 1e-5) });
     await post('ana', `/api/runs/${made.body.id}/submit`, {});

@@ -13,7 +13,7 @@ export function RouteErrorPage() {
       <p className="num text-sm text-alert">{detail}</p>
       <p className="text-sm">
         <Link to="/" className="text-accent underline">
-          Back to the dispersion calculator
+          Back to the overview
         </Link>
       </p>
     </main>

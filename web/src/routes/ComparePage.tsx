@@ -1,0 +1,5 @@
+import { PageTitle } from '../components/QueryState';
+
+export function ComparePage() {
+  return <PageTitle>ComparePage</PageTitle>;
+}

@@ -1,0 +1,5 @@
+import { PageTitle } from '../components/QueryState';
+
+export function RunsPage() {
+  return <PageTitle>RunsPage</PageTitle>;
+}
