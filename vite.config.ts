@@ -11,7 +11,7 @@ export default defineConfig({
   server: { proxy: { '/api': 'http://127.0.0.1:5180' } },
   test: {
     root: '.',
-    include: ['tests/**/*.test.ts'],
+    include: ['tests/**/*.test.ts', 'tests/**/*.test.tsx'],
     testTimeout: 60_000,
     hookTimeout: 120_000,
     pool: 'forks',

@@ -23,7 +23,7 @@ export function SiteFooter() {
     <footer className="border-t border-rule">
       <div
         role="status"
-        className="mx-auto flex max-w-5xl justify-between gap-4 px-5 py-3 text-xs text-ink-soft"
+        className="mx-auto flex max-w-6xl justify-between gap-4 px-5 py-3 text-xs text-ink-soft"
       >
         <span>Sightline</span>
         <ServerStatus />

@@ -1,4 +1,4 @@
-import type { ReactNode } from 'react';
+import { useId, type ReactNode } from 'react';
 import { Link } from 'react-router';
 import { useActivity } from '../api/activity';
 import { useBaselines, useRuns } from '../api/runs';
@@ -9,9 +9,12 @@ import { RunList } from '../components/RunList';
 import { dateTime, KIND_LABEL } from '../lib/time';
 
 function Section({ title, children }: { title: string; children: ReactNode }) {
+  // an id without spaces: aria-labelledby takes a list of ids, so "Waiting for your review"
+  // would name nothing and the section would not be a named region
+  const id = useId();
   return (
-    <section aria-labelledby={title} className="flex flex-col gap-2">
-      <h2 id={title} className="text-sm font-semibold tracking-wide text-ink-soft uppercase">
+    <section aria-labelledby={id} className="flex flex-col gap-2">
+      <h2 id={id} className="text-sm font-semibold tracking-wide text-ink-soft uppercase">
         {title}
       </h2>
       {children}

@@ -27,7 +27,9 @@ export function Plot({
     return () => figure.remove();
   }, deps);
   return (
-    <figure className="flex flex-col gap-1" aria-label={label} role="img">
+    // a named group: the drawing itself is hidden from screen readers, the caption says in words
+    // what it shows
+    <figure className="flex flex-col gap-1" aria-label={label}>
       <div ref={ref} className="overflow-x-auto" />
       {summary && <figcaption className="text-xs text-ink-soft">{summary}</figcaption>}
     </figure>
