@@ -17,6 +17,9 @@ export function configFromEnv(flags: ServeFlags, env = process.env): StartOption
     ? Number(env.SIGHTLINE_ANALYSIS_THREADS)
     : undefined;
   const uploadMb = env.SIGHTLINE_UPLOAD_MB ? Number(env.SIGHTLINE_UPLOAD_MB) : undefined;
+  const signIns = env.SIGHTLINE_SIGN_IN_PER_MINUTE
+    ? Number(env.SIGHTLINE_SIGN_IN_PER_MINUTE)
+    : undefined;
   return {
     port,
     host: flags.host ?? env.HOST ?? '127.0.0.1',
@@ -32,5 +35,6 @@ export function configFromEnv(flags: ServeFlags, env = process.env): StartOption
       : undefined,
     analysisThreads: threads,
     uploadBytes: uploadMb ? uploadMb * 1024 * 1024 : undefined,
+    signInPerMinute: signIns && signIns > 0 ? signIns : undefined,
   };
 }

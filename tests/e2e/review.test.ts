@@ -27,7 +27,7 @@ const LEAD = 'lead@saltbush.test';
 const VIEWER = 'guest@saltbush.test';
 const ADMIN = 'admin@saltbush.test';
 /** one flow, with the server-side analysis of flow a in it */
-const FLOW_MS = 90_000;
+const FLOW_MS = 180_000;
 
 describe.skipIf(!chromiumAvailable)('the review app in Chromium', () => {
   let world: ReviewWorld | undefined;
@@ -123,13 +123,14 @@ describe.skipIf(!chromiumAvailable)('the review app in Chromium', () => {
           await page.getByLabel('Analysis').selectOption('dm-series');
           await page.getByRole('button', { name: 'Upload and run' }).click();
           try {
-            await page.waitForURL(/\/runs\/[^/]+$/, { timeout: 60_000 });
+            await page.waitForURL(/\/runs\/[^/]+$/, { timeout: 120_000 });
           } catch (e) {
             // say what the page shows instead: the job's progress or its error
             await screenshot(page, flow, 'upload-stuck');
             const shown = [...(await errorNotices(page)), ...(await statusTexts(page))];
             throw new Error(
               `${(e as Error).message.split('\n')[0]}; on screen: ${shown.join(' | ')}`,
+              { cause: e },
             );
           }
           uploadedRunId = new URL(page.url()).pathname.split('/').pop();

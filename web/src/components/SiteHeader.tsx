@@ -37,10 +37,17 @@ export function SiteHeader() {
                   New analysis
                 </NavLink>
               )}
-              {isAdmin(me) && (
+              {isAdmin(me) ? (
                 <NavLink to="/admin" className={link}>
                   Admin
                 </NavLink>
+              ) : (
+                canContribute(me) && (
+                  // analysts and leads manage their own API tokens on the same page
+                  <NavLink to="/admin" className={link}>
+                    Tokens
+                  </NavLink>
+                )
               )}
             </>
           )}
