@@ -1,10 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import {
   CompareError,
-  type DmFitLike,
   type DmSeriesLike,
   type ScatterFitLike,
-  type VisitLike,
 } from '../../shared/review/compare.js';
 import { checkRegression, sourcesOf } from '../../shared/review/regression.js';
 import {
@@ -12,24 +10,10 @@ import {
   baselineCheckResponseSchema,
   regressionResultSchema,
 } from '../../shared/schemas/review.js';
+import { dmFit, visit } from '../helpers/comparable.js';
 
 // deviation = (new − baseline) / σ_baseline with binary-exact numbers, so the pass/fail edge at
 // the tolerance is exact (arithmetic); |deviation| ≤ tolerance passes (the check's definition).
-
-function visit(source: string, mjd: number, dm: number | null, err: number | null, extra = {}) {
-  const v: VisitLike = {
-    source,
-    mjd,
-    status: dm === null ? 'unconstrained' : 'fitted',
-    dm,
-    dm_err: err,
-    dm_err_scaled: err,
-    dm_kind: 'absolute',
-    ...extra,
-  };
-  return v;
-}
-const dmFit = (visits: VisitLike[]): DmFitLike => ({ schema: 'sightline/dm-fit@1', visits });
 
 describe('regression check against a baseline', () => {
   it("divides by the baseline's own error, not the two errors in quadrature", () => {

@@ -9,28 +9,13 @@ import {
   type DmFitLike,
   type DmSeriesLike,
   type ScatterFitLike,
-  type VisitLike,
 } from '../../shared/review/compare.js';
 import { compareResultSchema, type ComparableResultJson } from '../../shared/schemas/review.js';
 import { makeTable } from '../helpers/toas.js';
+import { dmFit, visit } from '../helpers/comparable.js';
 
 // Hand-built results with binary-exact numbers (0.5, 0.625, …) so Δ, σ and z are known exactly;
 // σ = √(σ_a² + σ_b²) is the usual quadrature sum of independent errors (common practice).
-
-function visit(source: string, mjd: number, dm: number | null, err: number | null, extra = {}) {
-  const v: VisitLike = {
-    source,
-    mjd,
-    status: dm === null ? 'unconstrained' : 'fitted',
-    dm,
-    dm_err: err,
-    dm_err_scaled: err,
-    dm_kind: 'absolute',
-    ...extra,
-  };
-  return v;
-}
-const dmFit = (visits: VisitLike[]): DmFitLike => ({ schema: 'sightline/dm-fit@1', visits });
 
 describe('compare two dm-fit runs', () => {
   it('Δ = b − a, σ in quadrature (dm_err_scaled ?? dm_err), z = Δ/σ, with exact numbers', () => {
