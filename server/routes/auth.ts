@@ -38,6 +38,29 @@ async function apiErrorShape(res: Response): Promise<Response> {
 }
 
 /**
+ * The session token lives in the http-only cookie only: better-auth also puts it in the JSON of
+ * sign-in (`token`) and get-session (`session.token`), where page scripts could read it.
+ */
+async function withoutSessionToken(res: Response): Promise<Response> {
+  if (res.status >= 300 || !/json/i.test(res.headers.get('content-type') ?? '')) return res;
+  const body = (await res
+    .clone()
+    .json()
+    .catch(() => null)) as { token?: unknown; session?: { token?: unknown } } | null;
+  if (!body || typeof body !== 'object') return res;
+  if (
+    !('token' in body) &&
+    !(body.session && typeof body.session === 'object' && 'token' in body.session)
+  )
+    return res;
+  delete body.token;
+  if (body.session && typeof body.session === 'object') delete body.session.token;
+  const headers = new Headers(res.headers);
+  headers.delete('content-length');
+  return new Response(JSON.stringify(body), { status: res.status, headers });
+}
+
+/**
  * better-auth's own endpoints under /api/auth (sign-in/email, sign-out, get-session,
  * change-password). They read the raw body themselves, so this router is mounted before
  * express.json(). Sign-in is limited per client address; better-auth sees the address Express
@@ -47,7 +70,7 @@ async function apiErrorShape(res: Response): Promise<Response> {
 export function authRouter(s: Services): Router {
   const r = Router();
   const handler = toNodeHandler(async (request: Request) =>
-    apiErrorShape(await s.auth.handler(request)),
+    withoutSessionToken(await apiErrorShape(await s.auth.handler(request))),
   );
   const signInLimit = rateLimit({
     windowMs: 60_000,

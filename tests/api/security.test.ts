@@ -217,6 +217,14 @@ describe.each(ENGINES)('security on %s', (engine) => {
     // and it works
     const me = await t.http.get('/api/me').set('Cookie', set!.split(';')[0]);
     expect(me.body).toMatchObject({ email: t.people.ana.email, via: 'session' });
+    // the session token is in the http-only cookie only, never in a body page scripts can read
+    const token = decodeURIComponent(set!.split(';')[0].split('=')[1]).split('.')[0];
+    expect(JSON.stringify(r.body)).not.toContain(token);
+    expect(r.body.user).toMatchObject({ email: t.people.ana.email });
+    const session = await t.http.get('/api/auth/get-session').set('Cookie', set!.split(';')[0]);
+    expect(session.status).toBe(200);
+    expect(session.body.user).toMatchObject({ email: t.people.ana.email });
+    expect(JSON.stringify(session.body)).not.toContain(token);
   });
 
   it(`limits sign-in to ${LIMIT} attempts a minute per address (429 rate_limited)`, async () => {
