@@ -7,6 +7,7 @@ import { dmCommand } from './commands/dm.js';
 import { toasCommand } from './commands/toas.js';
 import { demoCommand } from './commands/demo.js';
 import { scatterCommand } from './commands/scatter.js';
+import { templateCommand } from './commands/template.js';
 import { baselineCommand, runsCommand, serveCommand } from './commands/review.js';
 
 export function buildProgram(): Command {
@@ -23,6 +24,7 @@ export function buildProgram(): Command {
     solarCommand(),
     dmCommand(),
     toasCommand(),
+    templateCommand(),
     scatterCommand(),
     runsCommand(),
     baselineCommand(),

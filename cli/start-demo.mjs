@@ -34,7 +34,7 @@ function run(args, env = {}) {
 const step = (text) => process.stdout.write(`• ${text}\n`);
 
 // ── 1 and 2: data and fits ──
-if (!existsSync(join(dir, 'profiles'))) {
+if (!existsSync(join(dir, 'cubes'))) {
   step(`generating the demo data set in ${dir}`);
   run(['demo', 'generate', '--out', dir, '--seed', '1', ...(existsSync(dir) ? ['--force'] : [])]);
 }

@@ -1,6 +1,8 @@
 import { Command, Option } from 'commander';
 import { nonNegative, numberOption, positive, withCommon } from '../common.js';
 import type { FitCliOptions, SeriesCliOptions } from '../run/dm.js';
+import type { RefineCliOptions } from '../run/cubes.js';
+import { usageError } from '../errors.js';
 
 function addFitOptions(cmd: Command): Command {
   return cmd
@@ -106,5 +108,53 @@ export function dmCommand(): Command {
   ).action(async (file: string, o: SeriesCliOptions) =>
     (await import('../run/dm.js')).runSeriesCommand(file, o),
   );
-  return dm.addCommand(fit).addCommand(series);
+  const refine = withCommon(
+    new Command('refine')
+      .argument('<cube>', 'profile cube: JSON, or .npy [nchan, nbin] with a sidecar JSON')
+      .description(
+        'DM by matched-filter S/N over trial DMs (Fourier shifts of every channel), and from the channel arrival times',
+      )
+      .requiredOption(
+        '--range <lo:hi:step>',
+        'trial DMs from LO to HI in steps of STEP (pc cm⁻³)',
+        (text: string) => parseRangeLazy(text),
+      )
+      .option('--meta <file>', 'sidecar JSON for a .npy cube (default CUBE.json)')
+      .option(
+        '--template <file>',
+        'template profile (default: one built from this cube, which favours its own DM)',
+      )
+      .option(
+        '--min-snr <snr>',
+        'channels below this S/N give no arrival time (default 8)',
+        numberOption('--min-snr', positive),
+      )
+      .option(
+        '--profile-out <file.json>',
+        'write the dedispersed, band-averaged profile at the best DM (a profile file)',
+      )
+      .addHelpText(
+        'after',
+        '\nExamples:\n  sightline dm refine visit.npy --range 21.30:21.42:0.0005 --template sbp-b.template.json\n  sightline dm refine visit.npy --range 21.3:21.4:0.001 --json --profile-out summed.json',
+      ),
+  ).action(async (file: string, o: RefineCliOptions) =>
+    (await import('../run/cubes.js')).runDmRefine(file, o),
+  );
+  return dm.addCommand(fit).addCommand(series).addCommand(refine);
+}
+
+/** LO:HI:STEP checked at parse time (the numbers only; the run checks the trial count). */
+function parseRangeLazy(text: string): { lo: number; hi: number; step: number } {
+  const parts = text.split(':');
+  if (parts.length !== 3)
+    throw usageError(`--range: "${text}" is not LO:HI:STEP (for example 21.30:21.42:0.0005)`);
+  const names = ['LO', 'HI', 'STEP'];
+  const [lo, hi, step] = parts.map((p, i) => {
+    const v = p.trim() === '' ? NaN : Number(p);
+    if (!Number.isFinite(v)) throw usageError(`--range: ${names[i]} "${p}" is not a finite number`);
+    return v;
+  });
+  if (!(step > 0)) throw usageError(`--range: STEP must be positive, got ${parts[2]}`);
+  if (!(hi >= lo)) throw usageError(`--range: HI (${hi}) is below LO (${lo})`);
+  return { lo, hi, step };
 }

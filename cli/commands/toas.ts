@@ -1,5 +1,6 @@
 import { Command, Option } from 'commander';
-import { withCommon } from '../common.js';
+import { numberOption, positive, withCommon } from '../common.js';
+import type { ExtractCliOptions } from '../run/cubes.js';
 import type { CorrectOptions } from '../run/toas.js';
 
 export function correctionCommand(): Command {
@@ -29,6 +30,39 @@ export function correctionCommand(): Command {
   );
 }
 
+export function extractCommand(): Command {
+  return withCommon(
+    new Command('extract')
+      .argument('<cube...>', 'profile cubes: JSON, or .npy [nchan, nbin] with a sidecar JSON')
+      .description(
+        'arrival times per channel by Fourier template matching, or with --joint one arrival time and DM per cube',
+      )
+      .requiredOption(
+        '--template <file>',
+        'template profile: one band for every channel, or one band per cube channel',
+      )
+      .option('--meta <file>', 'sidecar JSON of a single .npy cube (default CUBE.json)')
+      .option(
+        '--joint',
+        'fit one phase and one DM to all channels at once (wideband); writes dm and dm_err columns',
+      )
+      .option(
+        '--min-snr <snr>',
+        'skip channels whose matched-filter S/N is below this (default 8)',
+        numberOption('--min-snr', positive),
+      )
+      .addHelpText(
+        'after',
+        '\nOutput: the arrival-time table (CSV by default, --json for a JSON array), ready for\n`sightline dm fit` (channel times) or `sightline dm series` (--joint).\n\nExamples:\n  sightline toas extract visit.npy --template sbp-b.template.json --out toas.csv\n  sightline toas extract cubes/*.npy --template sbp-b.template.json --joint --out wideband.csv',
+      ),
+  ).action(async (cubes: string[], o: ExtractCliOptions) =>
+    (await import('../run/cubes.js')).runToasExtract(cubes, o),
+  );
+}
+
 export function toasCommand(): Command {
-  return new Command('toas').description('arrival-time tables').addCommand(correctionCommand());
+  return new Command('toas')
+    .description('arrival-time tables')
+    .addCommand(extractCommand())
+    .addCommand(correctionCommand());
 }

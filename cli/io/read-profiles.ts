@@ -3,6 +3,7 @@ import { readFile } from 'node:fs/promises';
 import { InputError } from '../../shared/formats/errors.js';
 import { readNpy, type NpyArray } from '../../shared/profiles/npy.js';
 import {
+  type ProfileCheckOptions,
   parseJsonText,
   parseProfileJsonText,
   profilesFromNpy,
@@ -28,12 +29,13 @@ const sha256 = (bytes: Uint8Array) => createHash('sha256').update(bytes).digest(
  * a missing input file (or a missing `metaPath`) propagates as ENOENT (exit 3). Only a missing
  * default sidecar is reported as invalid input, saying where it looked. `name` is what errors and
  * `input` call `path`, and what the type is told by (default `path`; the server passes an
- * upload's original name).
+ * upload's original name). `opts.allowFlagged` accepts flagged channels (cubes).
  */
 export async function readProfiles(
   path: string,
   metaPath?: string,
   name: string = path,
+  opts: ProfileCheckOptions = {},
 ): Promise<{ set: ProfileSet; input: ProfileInputFile[] }> {
   const bytes = await readFile(path);
   const lower = name.toLowerCase();
@@ -44,7 +46,7 @@ export async function readProfiles(
     if (bytes.length === 0) throw new InputError('the file is empty', { file: name });
     let set: ProfileSet;
     try {
-      set = parseProfileJsonText(bytes.toString('utf8'));
+      set = parseProfileJsonText(bytes.toString('utf8'), opts);
     } catch (e) {
       if (e instanceof InputError) throw e.inFile(name);
       throw e;
@@ -81,7 +83,7 @@ export async function readProfiles(
   }
   let set: ProfileSet;
   try {
-    set = profilesFromNpy(array, meta);
+    set = profilesFromNpy(array, meta, opts);
   } catch (e) {
     throw inFile(e instanceof SidecarError ? sidecarPath : name, e);
   }

@@ -87,6 +87,20 @@ export function writeDemo(dir: string, seed: number, force = false): string[] {
       writeFileSync(join(temp, `${rel}.json`), JSON.stringify(sidecar) + '\n');
     }
     files.push(join(dir, 'profiles', name) + '/');
+    mkdirSync(join(temp, 'cubes', name), { recursive: true });
+    for (const cube of set.cubes) {
+      const rel = `cubes/${name}/${name}_${cube.mjd}.npy`;
+      writeFileSync(join(temp, rel), writeNpy(cube.bins, [cube.freqs_mhz.length, cube.nbin]));
+      const sidecar = {
+        source: cube.source,
+        mjd: cube.mjd,
+        period_s: cube.period_s,
+        dm: cube.dm,
+        freqs_mhz: cube.freqs_mhz,
+      };
+      writeFileSync(join(temp, `${rel}.json`), JSON.stringify(sidecar) + '\n');
+    }
+    files.push(join(dir, 'cubes', name) + '/');
     put(
       `toas/${name}.csv`,
       stringify([columns as unknown as string[], ...set.toas.map((t) => columns.map((c) => t[c]))]),
@@ -106,7 +120,7 @@ function isDemoFolder(folder: string): boolean {
       generated_by?: { name?: string };
       observatory?: string;
     };
-    const known = new Set(['pulsars.json', 'toas', 'truth', 'profiles', 'results']);
+    const known = new Set(['pulsars.json', 'toas', 'truth', 'profiles', 'cubes', 'results']);
     return (
       catalogue.generated_by?.name === 'sightline' &&
       catalogue.observatory === DEMO_OBSERVATORY &&

@@ -71,8 +71,83 @@ export const CHI2_ALARM_P = 1e-3;
 /** Fit every visit of every source in the table. */
 export function fitDmVisits(table: ToaTable, opts: DmFitOptions): VisitFit[] {
   const order = orderBySourceAndTime(table);
+  const fit = table.header.hasDm ? combineWidebandVisit : fitVisit;
   return groupVisits(table, order, opts.grouping).map(([b, e]) =>
-    fitVisit(table, order.subarray(b, e), opts),
+    fit(table, order.subarray(b, e), opts),
+  );
+}
+
+/**
+ * Wideband arrival times (a `dm` and `dm_err` per row, as `toas extract --joint` writes them)
+ * already carry a DM each: a visit's DM is their inverse-variance weighted mean, with
+ * χ² = Σ (DM_i − mean)²/σ_i² on n − 1 degrees of freedom, and the error scaled by √χ²_red
+ * when that exceeds 1. A visit with one row reports that row's DM.
+ */
+export function combineWidebandVisit(
+  table: ToaTable,
+  rows: ArrayLike<number>,
+  opts: DmFitOptions,
+): VisitFit {
+  const n = rows.length;
+  let fmin = Infinity;
+  let fmax = -Infinity;
+  let mjdSum = 0;
+  let sw = 0;
+  let swd = 0;
+  for (let j = 0; j < n; j++) {
+    const i = rows[j];
+    fmin = Math.min(fmin, table.freqMhz(i));
+    fmax = Math.max(fmax, table.freqMhz(i));
+    mjdSum += table.mjd(i);
+    const w = 1 / table.dmErrOf(i) ** 2;
+    sw += w;
+    swd += w * table.dmOf(i);
+  }
+  const dm = swd / sw;
+  let chi2 = 0;
+  for (let j = 0; j < n; j++) {
+    const i = rows[j];
+    chi2 += ((table.dmOf(i) - dm) / table.dmErrOf(i)) ** 2;
+  }
+  const dof = n - 1;
+  const red = dof > 0 ? chi2 / dof : null;
+  const chi2P = dof > 0 ? chi2Sf(chi2, dof) : null;
+  const dmErr = 1 / Math.sqrt(sw);
+  const warnings: string[] = [];
+  if (opts.evolution > 0 || (opts.scatter && opts.scatter !== 'none'))
+    warnings.push(
+      'wideband arrival times carry their own DM: profile evolution and scattering terms do not apply and were not fitted',
+    );
+  if (chi2P !== null && chi2P < CHI2_ALARM_P)
+    warnings.push(
+      `the ${n} DMs of this visit disagree (reduced χ² = ${red!.toFixed(2)}, p = ${chi2P.toExponential(1)}): scaled error reported`,
+    );
+  const active = new Uint8Array(n).fill(1);
+  return visitRecord(
+    {
+      source: table.sources[table.sourceId(rows[0])],
+      mjd: round(mjdSum / n, 1e-7),
+      mjdFirst: round(table.mjd(rows[0]), 1e-7, Math.floor),
+      mjdLast: round(table.mjd(rows[n - 1]), 1e-7, Math.ceil),
+      n,
+      nFreqs: countDistinctFrequencies(table, rows, active),
+      fmin,
+      fmax,
+      dmKind: 'absolute',
+    },
+    {
+      dm,
+      dmErr,
+      dmErrScaled: red !== null && red > 1 ? dmErr * Math.sqrt(red) : dmErr,
+      offsetUs: null,
+      chi2,
+      dof,
+      reducedChi2: red,
+      chi2P,
+    },
+    [],
+    warnings,
+    'wideband: inverse-variance mean of the arrival times’ own DMs',
   );
 }
 
@@ -153,10 +228,16 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
     return unconstrained(describeModel(receiverNames(active), opts.evolution, residualMode));
   }
 
-  if (!residualMode && opts.periodS === undefined && !table.header.hasPeriod) {
+  // with pulse numbers the offsets need no folding; the period only converts pulse differences
+  let samePulse = table.header.hasPulse;
+  for (let j = 1; samePulse && j < n; j++)
+    samePulse = table.pulseNumber(rows[j]) === table.pulseNumber(rows[0]);
+  if (!residualMode && opts.periodS === undefined && !table.header.hasPeriod && !samePulse) {
     throw new InputError(
-      'arrival times without residuals need the pulse period to fold their offsets: give --period-s or a period_s column (or fit timing residuals with a residual_us column)',
-      { column: 'residual_us' },
+      table.header.hasPulse
+        ? 'these arrival times have different pulse numbers: give the period (--period-s or a period_s column) to relate them'
+        : 'arrival times without residuals need the pulse period to fold their offsets: give --period-s or a period_s column, pulse numbers in a pulse column (or fit timing residuals with a residual_us column)',
+      { column: table.header.hasPulse ? 'pulse' : 'residual_us' },
     );
   }
   // Data: residuals as given, or arrival-time offsets from the highest-frequency arrival.
@@ -171,7 +252,11 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
       let o = diffSeconds(table.epoch(i), table.epoch(ref));
       const rowPeriod = table.periodS(i);
       const p = Number.isFinite(rowPeriod) ? rowPeriod : opts.periodS;
-      if (p !== undefined) {
+      if (table.header.hasPulse) {
+        // known pulse numbers: arrival times of pulse N + m are m periods later, no fold
+        const dp = table.pulseNumber(i) - table.pulseNumber(ref);
+        if (dp !== 0) o -= p! * dp;
+      } else if (p !== undefined) {
         // fold into [−P/4, 3P/4): dispersive delays relative to the top frequency are ≥ 0
         o -= p * Math.floor((o + p / 4) / p);
         periodUsed = p;
@@ -362,7 +447,7 @@ interface FitPart {
   dm: number;
   dmErr: number;
   dmErrScaled: number;
-  offsetUs: number;
+  offsetUs: number | null;
   chi2: number;
   dof: number;
   reducedChi2: number | null;

@@ -2,7 +2,19 @@ import type { ToaHeader, ToaRow } from './toas.js';
 import type { Epoch } from '../time/mjd.js';
 
 type ColumnName =
-  'day' | 'sec' | 'frac' | 'freq' | 'err' | 'res' | 'period' | 'row' | 'src' | 'rcv';
+  | 'day'
+  | 'sec'
+  | 'frac'
+  | 'freq'
+  | 'err'
+  | 'res'
+  | 'period'
+  | 'row'
+  | 'src'
+  | 'rcv'
+  | 'pulse'
+  | 'dm'
+  | 'dmErr';
 const COLUMNS: ColumnName[] = [
   'day',
   'sec',
@@ -14,6 +26,9 @@ const COLUMNS: ColumnName[] = [
   'row',
   'src',
   'rcv',
+  'pulse',
+  'dm',
+  'dmErr',
 ];
 
 /**
@@ -38,6 +53,9 @@ export class ToaTable {
   private rowNo: Float64Array;
   private src: Float64Array;
   private rcv: Float64Array;
+  private pulse: Float64Array;
+  private dm: Float64Array;
+  private dmErr: Float64Array;
   private lastSource = '';
   private lastSourceId = -1;
   /** Largest number of decimals seen in an MJD text (for writing epochs back). */
@@ -58,6 +76,9 @@ export class ToaTable {
     this.rowNo = new Float64Array(c);
     this.src = new Float64Array(c);
     this.rcv = new Float64Array(c);
+    this.pulse = new Float64Array(c);
+    this.dm = new Float64Array(c);
+    this.dmErr = new Float64Array(c);
   }
 
   private grow(): void {
@@ -92,6 +113,9 @@ export class ToaTable {
     this.err[n] = r.errUs;
     this.res[n] = r.residualUs ?? NaN;
     this.period[n] = r.periodS ?? NaN;
+    this.pulse[n] = r.pulse ?? NaN;
+    this.dm[n] = r.dm ?? NaN;
+    this.dmErr[n] = r.dmErr ?? NaN;
     this.rowNo[n] = r.row;
     if (r.source !== this.lastSource || this.lastSourceId < 0) {
       this.lastSource = r.source;
@@ -137,6 +161,17 @@ export class ToaTable {
   }
   periodS(i: number): number {
     return this.period[i];
+  }
+  /** pulse number (NaN: not given) */
+  pulseNumber(i: number): number {
+    return this.pulse[i];
+  }
+  /** wideband arrival times: the row's own DM and error (NaN: not given) */
+  dmOf(i: number): number {
+    return this.dm[i];
+  }
+  dmErrOf(i: number): number {
+    return this.dmErr[i];
   }
   row(i: number): number {
     return this.rowNo[i];

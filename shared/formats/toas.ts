@@ -7,7 +7,14 @@ import { EpochSyntaxError, parseMjd, type Epoch } from '../time/mjd.js';
  * NDJSON of objects with the same keys. Column order is free; unknown columns are kept.
  */
 export const REQUIRED_COLUMNS = ['source', 'mjd', 'freq_mhz', 'err_us'] as const;
-export const OPTIONAL_COLUMNS = ['residual_us', 'receiver', 'period_s'] as const;
+export const OPTIONAL_COLUMNS = [
+  'residual_us',
+  'receiver',
+  'period_s',
+  'pulse',
+  'dm',
+  'dm_err',
+] as const;
 
 export type ToaLayout = 'csv' | 'json' | 'ndjson';
 
@@ -22,6 +29,11 @@ export interface ToaRow {
   residualUs?: number;
   receiver?: string;
   periodS?: number;
+  /** pulse number: arrival times with known pulse numbers are not folded by the period */
+  pulse?: number;
+  /** wideband arrival times: the DM measured with this arrival time, and its 1σ error */
+  dm?: number;
+  dmErr?: number;
 }
 
 export interface ToaHeader {
@@ -31,6 +43,9 @@ export interface ToaHeader {
   hasResidual: boolean;
   hasReceiver: boolean;
   hasPeriod: boolean;
+  hasPulse: boolean;
+  /** `dm` and `dm_err` columns: wideband arrival times, each with its own DM */
+  hasDm: boolean;
 }
 
 /** Check a header: required columns present, no duplicates, and a hint for a wrong delimiter. */
@@ -63,6 +78,13 @@ export function checkHeader(columns: string[]): ToaHeader {
       }
     }
   }
+  if (seen.has('dm') !== seen.has('dm_err')) {
+    const [has, lacks] = seen.has('dm') ? ['dm', 'dm_err'] : ['dm_err', 'dm'];
+    throw new InputError(
+      `the header has "${has}" but not "${lacks}": wideband arrival times need both a DM and its error`,
+      { line: 1, column: has },
+    );
+  }
   const missing = REQUIRED_COLUMNS.filter((c) => !seen.has(c));
   if (missing.length) {
     throw new InputError(
@@ -76,6 +98,8 @@ export function checkHeader(columns: string[]): ToaHeader {
     hasResidual: seen.has('residual_us'),
     hasReceiver: seen.has('receiver'),
     hasPeriod: seen.has('period_s'),
+    hasPulse: seen.has('pulse'),
+    hasDm: seen.has('dm'),
   };
 }
 
@@ -136,6 +160,15 @@ export function parseToaRecord(
   if (header.hasReceiver) out.receiver = required('receiver');
   if (header.hasPeriod) {
     out.periodS = number('period_s', (v) => (v > 0 ? undefined : 'is not a positive period'));
+  }
+  if (header.hasPulse) {
+    out.pulse = number('pulse', (v) =>
+      Number.isSafeInteger(v) ? undefined : 'is not a whole pulse number',
+    );
+  }
+  if (header.hasDm) {
+    out.dm = number('dm', () => undefined);
+    out.dmErr = number('dm_err', (v) => (v > 0 ? undefined : 'is not a positive uncertainty'));
   }
   return out;
 }

@@ -25,7 +25,8 @@ export class SidecarError extends InputError {}
 export class ProfileCheckError extends InputError {
   constructor(
     reason: string,
-    readonly field: 'period_s' | 'dm' | 'bands' | 'freq' | 'bins' | 'noise',
+    readonly field:
+      'period_s' | 'dm' | 'ref_freq_mhz' | 'fiducial_phase' | 'bands' | 'freq' | 'bins' | 'noise',
     readonly band?: number,
     readonly bin?: number,
   ) {
@@ -73,9 +74,19 @@ export function parseJsonText(text: string): unknown {
   }
 }
 
+/** How strict the checks are: cubes may hold flagged channels (all NaN, or constant). */
+export interface ProfileCheckOptions {
+  /**
+   * Accept channels whose bins are all non-finite or all equal (the usual marks of a channel
+   * flagged for interference): they are listed in `flagged` and their bins set to 0, instead of
+   * refusing the file. A channel with only some non-finite bins is still refused.
+   */
+  allowFlagged?: boolean;
+}
+
 /** A JSON profile file's text → checked ProfileSet. */
-export function parseProfileJsonText(text: string): ProfileSet {
-  return parseProfileJson(parseJsonText(text));
+export function parseProfileJsonText(text: string, opts: ProfileCheckOptions = {}): ProfileSet {
+  return parseProfileJson(parseJsonText(text), opts);
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -95,6 +106,9 @@ const jsonSchema = z.object(
     mjd,
     period_s: number,
     dm: number.optional(),
+    ref_freq_mhz: number.optional(),
+    fiducial_phase: number.optional(),
+    receiver: text.optional(),
     profiles: z.array(
       z.object(
         {
@@ -118,6 +132,9 @@ const sidecarSchema = z.object(
     period_s: number,
     freqs_mhz: z.array(number, { error: 'expected an array of frequencies in MHz' }),
     dm: number.optional(),
+    ref_freq_mhz: number.optional(),
+    fiducial_phase: number.optional(),
+    receiver: text.optional(),
     noise: z
       .union([number, z.array(number)], {
         error: 'expected a number or one number per channel',
@@ -206,7 +223,7 @@ const sidecarError = (reason: string, loc: InputLocation) => new SidecarError(re
 // The JSON layout
 
 /** A parsed JSON profile file → checked ProfileSet. Errors name the JSON path in `column`. */
-export function parseProfileJson(value: unknown): ProfileSet {
+export function parseProfileJson(value: unknown, opts: ProfileCheckOptions = {}): ProfileSet {
   const parsed = jsonSchema.safeParse(value);
   if (!parsed.success) throw schemaError(parsed.error, value, JSON_KEYS, plainError);
   const v = parsed.data;
@@ -233,8 +250,11 @@ export function parseProfileJson(value: unknown): ProfileSet {
     bands,
   };
   if (v.dm !== undefined) set.dm = toNumber(v.dm);
+  if (v.ref_freq_mhz !== undefined) set.refFreqMhz = toNumber(v.ref_freq_mhz);
+  if (v.fiducial_phase !== undefined) set.fiducialPhase = toNumber(v.fiducial_phase);
+  if (v.receiver !== undefined && v.receiver.trim()) set.receiver = v.receiver.trim();
   if (!set.source) throw new InputError('the source name is empty', { column: 'source' });
-  checkProfileSet(set);
+  checkProfileSet(set, opts);
   return set;
 }
 
@@ -247,7 +267,11 @@ export function parseProfileJson(value: unknown): ProfileSet {
  * the caller can name the sidecar file; problems in the array throw InputError with the array
  * index (`data[2, 17]`) in `column`.
  */
-export function profilesFromNpy(arr: NpyArray, sidecar: unknown): ProfileSet {
+export function profilesFromNpy(
+  arr: NpyArray,
+  sidecar: unknown,
+  opts: ProfileCheckOptions = {},
+): ProfileSet {
   const parsed = sidecarSchema.safeParse(sidecar);
   if (!parsed.success) throw schemaError(parsed.error, sidecar, SIDECAR_KEYS, sidecarError);
   const meta = parsed.data;
@@ -289,10 +313,13 @@ export function profilesFromNpy(arr: NpyArray, sidecar: unknown): ProfileSet {
     bands,
   };
   if (meta.dm !== undefined) set.dm = toNumber(meta.dm);
+  if (meta.ref_freq_mhz !== undefined) set.refFreqMhz = toNumber(meta.ref_freq_mhz);
+  if (meta.fiducial_phase !== undefined) set.fiducialPhase = toNumber(meta.fiducial_phase);
+  if (meta.receiver !== undefined && meta.receiver.trim()) set.receiver = meta.receiver.trim();
   if (!set.source) throw new SidecarError('the source name is empty', { column: 'source' });
 
   try {
-    checkProfileSet(set);
+    checkProfileSet(set, opts);
   } catch (e) {
     if (!(e instanceof ProfileCheckError)) throw e;
     const { field, band, bin } = e;
@@ -326,9 +353,11 @@ function mhz(f: number): string {
  * Value checks every ProfileSet must pass before any fit: a positive finite period, a DM ≥ 0
  * when given, at least one band, distinct positive frequencies, the same number (≥ MIN_BINS) of
  * finite bins in every band, a signal (not every bin equal) and positive noise when given.
+ * With `allowFlagged`, channels that are entirely non-finite or constant are flagged instead
+ * (listed in `set.flagged`, bins set to 0); at least one channel must remain.
  * Throws ProfileCheckError.
  */
-export function checkProfileSet(set: ProfileSet): void {
+export function checkProfileSet(set: ProfileSet, opts: ProfileCheckOptions = {}): void {
   if (!(Number.isFinite(set.periodS) && set.periodS > 0)) {
     throw new ProfileCheckError(
       `the period must be a positive number of seconds, found ${set.periodS}`,
@@ -337,6 +366,21 @@ export function checkProfileSet(set: ProfileSet): void {
   }
   if (set.dm !== undefined && !(Number.isFinite(set.dm) && set.dm >= 0)) {
     throw new ProfileCheckError(`the DM must be a finite number ≥ 0, found ${set.dm}`, 'dm');
+  }
+  if (set.refFreqMhz !== undefined && !(Number.isFinite(set.refFreqMhz) && set.refFreqMhz > 0)) {
+    throw new ProfileCheckError(
+      `the reference frequency must be a positive number of MHz, found ${set.refFreqMhz}`,
+      'ref_freq_mhz',
+    );
+  }
+  if (
+    set.fiducialPhase !== undefined &&
+    !(Number.isFinite(set.fiducialPhase) && set.fiducialPhase >= 0 && set.fiducialPhase < 1)
+  ) {
+    throw new ProfileCheckError(
+      `the fiducial phase must be a number in [0, 1) turns, found ${set.fiducialPhase}`,
+      'fiducial_phase',
+    );
   }
   if (set.bands.length === 0) throw new ProfileCheckError('there are no bands', 'bands');
 
@@ -385,14 +429,30 @@ export function checkProfileSet(set: ProfileSet): void {
       );
     }
     const bins = b.bins;
+    let finite = 0;
+    for (let j = 0; j < bins.length; j++) if (Number.isFinite(bins[j])) finite++;
+    const v0 = bins[0];
+    if (opts.allowFlagged && (finite === 0 || bins.every((v) => v === v0))) {
+      (set.flagged ??= []).push(i);
+      bins.fill(0);
+      return;
+    }
     for (let j = 0; j < bins.length; j++) {
       if (!Number.isFinite(bins[j])) {
-        throw new ProfileCheckError(`${name} has ${bins[j]} in bin ${j}`, 'bins', i, j);
+        const hint = opts.allowFlagged
+          ? ` (a flagged channel must be entirely NaN or constant; ${finite} of ${bins.length} bins here are finite)`
+          : '';
+        throw new ProfileCheckError(`${name} has ${bins[j]} in bin ${j}${hint}`, 'bins', i, j);
       }
     }
-    const v0 = bins[0];
     if (bins.every((v) => v === v0)) {
       throw new ProfileCheckError(`${name} has no signal: every bin is equal (${v0})`, 'bins', i);
     }
   });
+  if (set.flagged && set.flagged.length === set.bands.length) {
+    throw new ProfileCheckError(
+      `every channel is flagged (entirely NaN or constant): there is no signal to use`,
+      'bands',
+    );
+  }
 }

@@ -12,7 +12,21 @@ export interface ProfileSet {
   /** visit epoch as decimal text */
   mjd: string;
   periodS: number;
-  /** the pulsar's DM when the producer gives it (for the empirical τ–DM comparison) */
+  /**
+   * the DM the channels were dedispersed (aligned) with, which is also the pulsar's DM for the
+   * empirical τ–DM comparison; absent: not dedispersed
+   */
   dm?: number;
+  /**
+   * the frequency (MHz) at which phase 0 of the profiles refers to `mjd` after dedispersion;
+   * absent: infinite frequency
+   */
+  refFreqMhz?: number;
+  /** templates: the phase (turns) whose arrival a matched arrival time marks; default 0 */
+  fiducialPhase?: number;
+  /** receiver/backend label of the observation (cubes: labels their arrival times) */
+  receiver?: string;
+  /** cubes: indices of channels flagged in the file (entirely NaN or constant) */
+  flagged?: number[];
   bands: BandProfile[];
 }

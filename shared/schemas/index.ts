@@ -4,6 +4,7 @@ export * from './solar.js';
 export * from './dm-fit.js';
 export * from './dm-series.js';
 export * from './scatter-fit.js';
+export * from './dm-refine.js';
 export * from './review.js';
 export * from './analysis.js';
 export * from './api.js';

@@ -1,5 +1,6 @@
 import { createRng, type Rng } from './random.js';
 import { simulateProfiles } from './profiles.js';
+import { simulateCube } from './cubes.js';
 import {
   DEMO_CADENCE_DAYS,
   DEMO_MJD_END,
@@ -27,7 +28,26 @@ export interface DemoToa {
 export interface DemoTruth {
   source: string;
   alpha: number;
-  visits: Array<{ mjd: number; ddm_ism: number; dm_solar: number; tau_1ghz_us: number }>;
+  visits: Array<{
+    mjd: number;
+    ddm_ism: number;
+    dm_solar: number;
+    tau_1ghz_us: number;
+    /** the DM the visit's cube was simulated with (catalogue DM + ISM + solar wind) */
+    cube_dm: number;
+  }>;
+}
+
+/** One visit's simulated profile cube: channels across each receiver used, row-major. */
+export interface DemoCube {
+  source: string;
+  mjd: string;
+  period_s: number;
+  /** the DM the channels are dedispersed with (the catalogue DM) */
+  dm: number;
+  freqs_mhz: number[];
+  nbin: number;
+  bins: Float32Array;
 }
 
 /** One visit's simulated profiles: bands × bins, row-major. */
@@ -98,6 +118,15 @@ const PROFILE_SUBBANDS: Record<string, number> = { low: 4, mid: 3, high: 2 };
 const PULSE_WIDTH = 0.012;
 const PEAK_SNR_1GHZ = 60;
 
+/** Profile cubes: bins, channels per receiver, channel peak S/N at 1 GHz (noise σ = 1). */
+const CUBE_NBIN = 256;
+const CUBE_CHANNELS = 16;
+const CUBE_PEAK_1GHZ = 10;
+/** the `low` receiver's persistent interference block (channel indices within the receiver) */
+const CUBE_BAD_LOW = [5, 6];
+/** phase of the pulse peak at the cube epoch (infinite frequency) */
+const CUBE_PHASE = 0.3;
+
 const RECEIVER_OFFSET_US: Record<string, number> = { low: 0.8, mid: 0, high: -0.5 };
 const SUBBANDS: Record<string, number> = { low: 4, mid: 6, high: 4 };
 
@@ -142,11 +171,14 @@ function hash(s: string): number {
 export function simulateDemoPulsar(
   p: DemoPulsar,
   seed: number,
-): { toas: DemoToa[]; truth: DemoTruth; profiles: DemoProfiles[] } {
+): { toas: DemoToa[]; truth: DemoTruth; profiles: DemoProfiles[]; cubes: DemoCube[] } {
   const k = dispersionConstant('conventional');
   const rng = createRng(seed * 7919 + hash(p.source));
   // profiles draw from their own stream, so the arrival times do not depend on them
   const profileRng = createRng(seed * 104729 + hash(p.source));
+  // and cubes from theirs, so adding cubes changed neither
+  const cubeRng = createRng(seed * 130363 + hash(p.source));
+  const cubes: DemoCube[] = [];
   const ism = demoIsmDm(p, seed);
   const b = BEHAVIOUR[p.source];
   const sc = b.scatter;
@@ -171,11 +203,19 @@ export function simulateDemoPulsar(
     const solar = solarWindDmAt(DEMO_SOLAR_N0, p.ra_deg, p.dec_deg, start).dm;
     const ddm = ism(start);
     const tau1 = tauAt(start);
-    truth.visits.push({ mjd: start, ddm_ism: ddm, dm_solar: solar, tau_1ghz_us: tau1 });
+    truth.visits.push({
+      mjd: start,
+      ddm_ism: ddm,
+      dm_solar: solar,
+      tau_1ghz_us: tau1,
+      cube_dm: p.dm + ddm + solar,
+    });
     const profileFreqs: number[] = [];
+    const cubeReceivers: string[] = [];
     RECEIVERS.forEach((r, ri) => {
       if (r.name === 'low' && rng.uniform() < 0.1) return;
       if (r.name === 'high' && rng.uniform() < 0.4) return;
+      cubeReceivers.push(r.name);
       const nprof = PROFILE_SUBBANDS[r.name];
       for (let s = 0; s < nprof; s++)
         profileFreqs.push(r.loMhz + ((s + 0.5) * (r.hiMhz - r.loMhz)) / nprof);
@@ -207,8 +247,80 @@ export function simulateDemoPulsar(
       }
     });
     profiles.push(demoProfiles(p, b, start, tau1, profileFreqs, profileRng));
+    cubes.push(demoCube(p, b, start, p.dm + ddm + solar, tau1, cubeReceivers, cubeRng));
   }
-  return { toas, truth, profiles };
+  return { toas, truth, profiles, cubes };
+}
+
+/**
+ * A visit's profile cube: CUBE_CHANNELS channels across each receiver observed, dedispersed
+ * with the catalogue DM while the pulses travelled through `dmTrue`, so the residual
+ * dispersion is there to be measured. Channel brightness follows ν^−1.6 times a random
+ * scintillation gain; the `low` receiver's interference block and, now and then, one
+ * channel hit by a burst are flagged (written as zeros).
+ */
+function demoCube(
+  p: DemoPulsar,
+  b: Behaviour,
+  mjd: number,
+  dmTrue: number,
+  tau1GhzUs: number,
+  receivers: string[],
+  rng: Rng,
+): DemoCube {
+  const freqs: number[] = [];
+  const flagged: number[] = [];
+  for (const name of receivers) {
+    const r = RECEIVERS.find((x) => x.name === name)!;
+    const width = (r.hiMhz - r.loMhz) / CUBE_CHANNELS;
+    for (let c = 0; c < CUBE_CHANNELS; c++) {
+      if (name === 'low' && CUBE_BAD_LOW.includes(c)) flagged.push(freqs.length);
+      freqs.push(Number((r.loMhz + (c + 0.5) * width).toFixed(4)));
+    }
+  }
+  if (rng.uniform() < 0.3) {
+    const burst = rng.int(freqs.length);
+    if (!flagged.includes(burst)) flagged.push(burst);
+  }
+  const gains = freqs.map(() => Math.exp(0.4 * rng.normal()));
+  const second = b.secondComponent;
+  const epoch = normalise({ day: Math.floor(mjd), sec: Math.floor((mjd % 1) * 86400), frac: 0 });
+  const { set } = simulateCube(
+    {
+      source: p.source,
+      mjd: formatMjd(epoch, 6),
+      periodS: p.period_s,
+      nbin: CUBE_NBIN,
+      freqsMhz: freqs,
+      dmApplied: p.dm,
+      dmTrue,
+      refFreqMhz: null,
+      k: dispersionConstant('conventional').value,
+      phase: CUBE_PHASE,
+      components: second
+        ? [
+            { weight: 1 - second.fraction, offset: 0, width: PULSE_WIDTH },
+            { weight: second.fraction, offset: second.offset, width: PULSE_WIDTH },
+          ]
+        : [{ weight: 1, offset: 0, width: PULSE_WIDTH }],
+      amplitude: (f, c) => CUBE_PEAK_1GHZ * (f / 1000) ** -1.6 * gains[c],
+      scatter: { tau1GhzS: tau1GhzUs * 1e-6, alpha: b.scatter.alpha },
+      noise: 1,
+      flagged,
+    },
+    rng,
+  );
+  const bins = new Float32Array(freqs.length * CUBE_NBIN);
+  set.bands.forEach((band, c) => bins.set(band.bins, c * CUBE_NBIN));
+  return {
+    source: p.source,
+    mjd: set.mjd,
+    period_s: p.period_s,
+    dm: p.dm,
+    freqs_mhz: freqs,
+    nbin: CUBE_NBIN,
+    bins,
+  };
 }
 
 function demoProfiles(
@@ -263,7 +375,7 @@ export interface DemoDataSet {
   seed: number;
   pulsars: DemoPulsar[];
   solarN0: number;
-  sets: Array<{ toas: DemoToa[]; truth: DemoTruth; profiles: DemoProfiles[] }>;
+  sets: Array<{ toas: DemoToa[]; truth: DemoTruth; profiles: DemoProfiles[]; cubes: DemoCube[] }>;
 }
 
 export function simulateDemo(seed = 1): DemoDataSet {
