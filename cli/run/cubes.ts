@@ -15,7 +15,9 @@ import {
 import {
   buildTemplate,
   CubeSetError,
+  scrunchCube,
   type BuiltTemplate,
+  type VisitProfile,
   type SmoothMethod,
 } from '../../shared/cubes/template.js';
 import { channelToas, DEFAULT_MIN_SNR, type CubeToas } from '../../shared/cubes/toas.js';
@@ -251,11 +253,12 @@ export function templateFileBody(b: BuiltTemplate, input: InputFile[]): Record<s
 
 export async function runTemplateBuild(files: string[], o: TemplateCliOptions): Promise<void> {
   if (files.length === 0) throw usageError('give at least one cube');
-  const cubes: Cube[] = [];
+  // one cube in memory at a time: each is reduced to its band-averaged profile
+  const cubes: VisitProfile[] = [];
   const input: InputFile[] = [];
   for (const path of files) {
     const r = await readCube(path);
-    cubes.push(r.cube);
+    cubes.push(scrunchCube(r.cube));
     input.push(...r.input);
   }
   const built = await withProgress(o, `aligning ${cubes.length} visits`, async () => {
@@ -328,7 +331,7 @@ export async function refineCube(file: string, o: RefineCliOptions): Promise<DmR
     set = t.set;
   } else {
     builtFromCube = true;
-    const b = buildTemplate([cube], { smooth: 'fourier' });
+    const b = buildTemplate([scrunchCube(cube)], { smooth: 'fourier' });
     set = {
       source: b.source,
       mjd: b.mjd,

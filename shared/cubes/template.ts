@@ -63,14 +63,26 @@ export interface BuiltTemplate {
 /** Fewest visits whose profile S/N is this high are averaged; weaker ones are left out. */
 const MIN_VISIT_SNR = 3;
 
-interface Scrunched {
+/** One visit's band-averaged profile and what template building needs of its cube. */
+export interface VisitProfile {
+  source: string;
+  mjd: string;
+  periodS: number;
+  dmApplied: number;
+  refFreqMhz: number | null;
+  nbin: number;
   bins: Float64Array;
+  /** per-bin noise σ of the average */
   sigma: number;
+  /** the weighted mean frequency of the channels averaged */
   freq: number;
 }
 
-/** A cube's channels averaged with inverse-variance weights at the cube's own dedispersion. */
-function scrunch(cube: Cube): Scrunched {
+/**
+ * A cube's channels averaged with inverse-variance weights at the cube's own dedispersion, so
+ * a pipeline can read one cube at a time and keep only this (cubes can be large).
+ */
+export function scrunchCube(cube: Cube): VisitProfile {
   const sigma = channelNoise(cube);
   const n = cube.nbin;
   const bins = new Float64Array(n);
@@ -86,7 +98,17 @@ function scrunch(cube: Cube): Scrunched {
     for (let j = 0; j < n; j++) bins[j] += w * row[j];
   }
   for (let j = 0; j < n; j++) bins[j] /= sw;
-  return { bins, sigma: 1 / Math.sqrt(sw), freq: sf / sw };
+  return {
+    source: cube.source,
+    mjd: cube.mjd,
+    periodS: cube.periodS,
+    dmApplied: cube.dmApplied,
+    refFreqMhz: cube.refFreqMhz,
+    nbin: n,
+    bins,
+    sigma: 1 / Math.sqrt(sw),
+    freq: sf / sw,
+  };
 }
 
 /**
@@ -125,7 +147,7 @@ function wienerLowPass(re: Float64Array, im: Float64Array, h: number, noisePower
 
 /**
  * A smooth template from many visits of one pulsar: each cube's channels are averaged (noise
- * weighted) into one profile; the profiles are aligned to the current template by Fourier
+ * weighted) into one profile (scrunchCube); the profiles are aligned to the current template by Fourier
  * template matching, scaled to unit amplitude and averaged with inverse-variance weights
  * (b/s)²; three passes, each against the smoothed result of the last. The average is smoothed
  * (Fourier low-pass, wavelet, or not at all), its off-pulse level set to 0, its peak to 1 and
@@ -133,7 +155,7 @@ function wienerLowPass(re: Float64Array, im: Float64Array, h: number, noisePower
  * peak).
  */
 export function buildTemplate(
-  cubes: Cube[],
+  cubes: VisitProfile[],
   opts: { smooth: SmoothMethod; iterations?: number },
 ): BuiltTemplate {
   if (cubes.length === 0) throw new RangeError('no cubes');
@@ -161,7 +183,7 @@ export function buildTemplate(
   }
 
   // band-averaged profile and harmonics of every visit, resampled to the first cube's bins
-  const profiles = cubes.map(scrunch);
+  const profiles = cubes;
   const re = new Float64Array(cubes.length * h);
   const im = new Float64Array(cubes.length * h);
   const power = new Float64Array(cubes.length);

@@ -1,6 +1,7 @@
 // `npm run bench`: Sightline side by side with NumPy and SciPy, in one run, reported as ratios.
 //
-//   node tests/bench/run.mjs [--visits N] [--repeat N] [--cold N] [--scatter-visits N] [--keep]
+//   node tests/bench/run.mjs [--visits N] [--repeat N] [--cold N] [--scatter-visits N]
+//                            [--cube-trials N] [--keep]
 //
 // (`npm run bench` builds the CLI first.) Steps:
 //   1. writes a seeded synthetic residual table (default 10⁶ rows in 10⁵ visits) to a temporary
@@ -20,11 +21,28 @@
 //      bundled like the CLI) and with scipy.optimize.curve_fit (tests/bench/scatter_fit_scipy.py:
 //      default 'lm' with forward differences, and once more with an analytic Jacobian, for
 //      information), one pass each; compares τ where both sides call it constrained;
-//   6. prints a table (ratio = Sightline / reference; below 1 means Sightline is faster) and
+//   6. cube DM refinement: writes one seeded cube of 1024 channels × 2048 bins (1100–1900 MHz,
+//      float64 .npy, dedispersed at a DM 0.0042 pc cm⁻³ below the true one), its noiseless
+//      template (.npy) and the --cube-trials (default 512) trial DMs over the applied DM ± 0.02
+//      (tests/bench/cube-data.ts, through shared/sim/cubes.ts). Sightline
+//      (tests/bench/refine-only.ts, bundled like the CLI) reads them (not timed) and times, one
+//      pass each: harmonicsOf over all channels on its own; prepareTemplate + analyseCube (the
+//      per-channel template matches that give the weights and noise); matchedWeights,
+//      weightedCentreMhz, shiftPerDm and the DmShifter constructor; and, the measurement,
+//      shifter.snrAt(dm − dmApplied) for every trial in order. NumPy
+//      (tests/bench/dm_refine_numpy.py) takes Sightline's per-channel weights, noise and shifts as
+//      given and times, one pass each: np.fft.rfft of the cube and template; the weighted
+//      cross-spectra; and, the measurement, the same Fourier shifts and sums per trial (the
+//      channel sum, np.fft.irfft onto the bin grid, Newton refinement of the maximum over phase).
+//      The NumPy script runs twice: --form cexp (np.exp of the complex phase array, as the sum is
+//      written) and --form trig (np.cos/np.sin into preallocated buffers, np.einsum sums: the
+//      tuned loop). Both S/N curves must agree with Sightline's to 1e-6 relative at every trial;
+//   7. prints a table (ratio = Sightline / reference; below 1 means Sightline is faster) and
 //      writes tests/bench/last-run.json. The temporary folder is removed (unless --keep).
 //
-// Benchmarks are never test assertions: this script only exits non-zero when a step fails or
-// the DM results disagree (the scattering agreement is reported, not enforced).
+// Benchmarks are never test assertions: this script only exits non-zero when a step fails, the
+// DM results disagree or the cube S/N curves disagree (the scattering agreement is reported,
+// not enforced).
 import { spawnSync } from 'node:child_process';
 import {
   closeSync,
@@ -61,6 +79,8 @@ const N_VISITS = opt('--visits', 100_000); // 10 arrival times per visit
 const REPEAT = opt('--repeat', 3); // end-to-end runs per side (median reported)
 const COLD_RUNS = opt('--cold', 15); // cold-start runs per side (median reported)
 const SCATTER_VISITS = opt('--scatter-visits', 100); // 64 profiles of 1024 bins per visit
+const CUBE_TRIALS = opt('--cube-trials', 512); // trial DMs over the 1024 × 2048 cube
+if (CUBE_TRIALS < 2) fail('--cube-trials needs at least 2');
 const KEEP = argv.includes('--keep');
 
 function fail(message) {
@@ -176,7 +196,7 @@ function writeTable(path, nVisits) {
 }
 
 // ---------------------------------------------------------------------------------------------
-// 3. agreement (and 5., the scattering τ)
+// 3. agreement (and 5., the scattering τ; 6., the cube S/N curves)
 
 /** numpy's per-visit CSV → Map source → visits in time order. */
 function readNumpyVisits(path) {
@@ -379,6 +399,58 @@ function compareScatter(sl, sp, truth) {
   };
 }
 
+/**
+ * The cube's S/N curve, Sightline against one NumPy run, trial by trial: |a − b| / max(|a|, |b|)
+ * must be ≤ 1e-6 at every trial (the brief's bar, enforced like the DM agreement; a NaN counts as
+ * a disagreement). The phase of each maximum (turns, wrapped) is compared for information.
+ */
+function compareCurves(sl, np, trialsDm) {
+  const n = trialsDm.length;
+  if (sl.snr.length !== n || np.snr.length !== n) {
+    return {
+      compared: 0,
+      problems: [`curve lengths: Sightline ${sl.snr.length}, NumPy ${np.snr.length}, trials ${n}`],
+    };
+  }
+  const rels = [];
+  const problems = [];
+  let worst = 0;
+  let phaseDiff = 0;
+  const argmax = (xs) => xs.reduce((b, x, j) => (x > xs[b] ? j : b), 0);
+  for (let j = 0; j < n; j++) {
+    const a = sl.snr[j];
+    const b = np.snr[j];
+    let rel = Math.abs(a - b) / Math.max(Math.abs(a), Math.abs(b), Number.MIN_VALUE);
+    if (Number.isNaN(rel)) rel = Infinity;
+    rels.push(rel);
+    if (rel > rels[worst]) worst = j;
+    if (!(rel <= 1e-6) && problems.length < 20) {
+      problems.push(
+        `trial ${j} (DM ${trialsDm[j]}): S/N ${a} vs ${b} (relative ${rel.toExponential(2)})`,
+      );
+    }
+    const dp = sl.phase[j] - np.phase[j];
+    phaseDiff = Math.max(phaseDiff, Math.abs(dp - Math.floor(dp + 0.5)));
+  }
+  const at = (j) => ({
+    trial: j,
+    dm: trialsDm[j],
+    sightline: sl.snr[j],
+    numpy: np.snr[j],
+    rel: rels[j],
+  });
+  return {
+    compared: n,
+    max_rel: rels[worst],
+    median_rel: median(rels),
+    above_1e6: rels.filter((r) => !(r <= 1e-6)).length,
+    worst: at(worst),
+    max_phase_diff_turns: phaseDiff,
+    best_trial: { sightline: argmax(sl.snr), numpy: argmax(np.snr) },
+    problems,
+  };
+}
+
 // ---------------------------------------------------------------------------------------------
 // main
 
@@ -576,7 +648,67 @@ const firstTaus = Array.from({ length: Math.min(5, scatterTruth.bands) }, (_, b)
 }));
 
 // ---------------------------------------------------------------------------------------------
-// 6. report
+// 6. cube DM refinement: the same Fourier shifts and sums over trial DMs, Sightline and NumPy
+
+const CUBE_SEED = SEED + 2;
+log(`cube: writing 1024 channels × 2048 bins and ${CUBE_TRIALS} trial DMs`);
+const cubeDataJs = await bundle('cube-data');
+const refineOnlyJs = await bundle('refine-only');
+const cubeData = JSON.parse(
+  run(process.execPath, [cubeDataJs, dir, String(CUBE_TRIALS), String(CUBE_SEED)], 'cube data')
+    .stdout,
+);
+const cubeNpy = join(dir, 'cube.npy');
+const cubeTemplateNpy = join(dir, 'cube-template.npy');
+const cubeTruthJson = join(dir, 'cube-truth.json');
+const cubeTruth = JSON.parse(readFileSync(cubeTruthJson, 'utf8'));
+log(
+  `wrote a ${cubeData.nchan} × ${cubeData.nbin} cube (${(cubeData.bytes / 1e6).toFixed(1)} MB) in ${cubeData.write_s.toFixed(1)} s`,
+);
+log(`Sightline: analyseCube, DmShifter, snrAt over ${CUBE_TRIALS} trials (bundled like the CLI)`);
+const slCubeOut = join(dir, 'cube-sightline.json');
+const slCube = JSON.parse(
+  run(
+    process.execPath,
+    [refineOnlyJs, cubeNpy, cubeTemplateNpy, cubeTruthJson, slCubeOut],
+    'cube refine (Sightline)',
+  ).stdout,
+);
+const slCurve = JSON.parse(readFileSync(slCubeOut, 'utf8'));
+const numpyCubeRun = (form) => {
+  log(`NumPy: rfft, then the shifts and sums over ${CUBE_TRIALS} trials (--form ${form})`);
+  const out = join(dir, `cube-numpy-${form}.json`);
+  const report = JSON.parse(
+    run(
+      PYTHON,
+      [
+        join(BENCH, 'dm_refine_numpy.py'),
+        cubeNpy,
+        cubeTemplateNpy,
+        cubeTruthJson,
+        slCubeOut,
+        out,
+        '--form',
+        form,
+      ],
+      `cube refine (NumPy, ${form})`,
+    ).stdout,
+  );
+  return { report, curve: JSON.parse(readFileSync(out, 'utf8')) };
+};
+const npCubeExp = numpyCubeRun('cexp');
+const npCubeTrig = numpyCubeRun('trig');
+log('comparing the S/N curves trial by trial');
+const cubeAgreement = {
+  numpy_cexp: compareCurves(slCurve, npCubeExp.curve, cubeTruth.trials_dm),
+  numpy_trig: compareCurves(slCurve, npCubeTrig.curve, cubeTruth.trials_dm),
+};
+const cubeProblems = Object.entries(cubeAgreement).flatMap(([form, a]) =>
+  a.problems.map((p) => `${form}: ${p}`),
+);
+
+// ---------------------------------------------------------------------------------------------
+// 7. report
 
 const measurements = [
   {
@@ -628,6 +760,27 @@ const measurements = [
     reference: 'scipy',
     reference_s: measuredBands.scipy_fd_s,
   },
+  {
+    name: `cube DM refine (${CUBE_TRIALS} trials)`,
+    what: `shifter.snrAt(dm − dmApplied) for every trial DM on ${cubeData.nchan} channels × ${cubeData.nbin} bins (${slCube.h} harmonics; bundled like the CLI) vs NumPy's trial loop on the same cube, weights, noise and shifts: (Z * np.exp(1j * np.outer(2πdΔ, k))).sum(axis=0), np.fft.irfft, argmax, Newton to 1e-13 turns (--form cexp); one pass each, set-up not timed here`,
+    sightline_s: slCube.trials_s,
+    reference: 'numpy',
+    reference_s: npCubeExp.report.trials_s,
+  },
+  {
+    name: 'cube DM refine, tuned NumPy',
+    what: 'the same Sightline trial loop vs the NumPy loop with the channel sum in real arithmetic on preallocated buffers: np.outer/np.cos/np.sin with out=, np.einsum sums (--form trig); the rest as above',
+    sightline_s: slCube.trials_s,
+    reference: 'numpy trig',
+    reference_s: npCubeTrig.report.trials_s,
+  },
+  {
+    name: 'cube harmonics (FFT)',
+    what: `harmonicsOf over ${cubeData.nchan} channels of ${cubeData.nbin} bins (fft.js, harmonics copied out) vs np.fft.rfft(cube, axis=1)[:, 1:H+1] plus the template's; one pass each; information only`,
+    sightline_s: slCube.fft_s,
+    reference: 'numpy',
+    reference_s: npCubeExp.report.rfft_s,
+  },
 ].map((m) => ({ ...m, ratio: m.sightline_s / m.reference_s }));
 
 const pad = (s, n) => String(s).padEnd(n);
@@ -635,11 +788,11 @@ const lpad = (s, n) => String(s).padStart(n);
 const secs = (s) => (s < 1 ? `${(s * 1e3).toFixed(1)} ms` : `${s.toFixed(3)} s`);
 let out =
   '\nSightline benchmark (ratio = Sightline / reference; < 1 means Sightline is faster)\n\n';
-out += `${pad('measurement', 26)}${lpad('Sightline', 12)}${lpad('reference', 22)}${lpad('ratio', 9)}\n`;
-out += `${'-'.repeat(69)}\n`;
+out += `${pad('measurement', 30)}${lpad('Sightline', 12)}${lpad('reference', 23)}${lpad('ratio', 9)}\n`;
+out += `${'-'.repeat(74)}\n`;
 for (const m of measurements) {
   const ref = `${secs(m.reference_s)} (${m.reference})`;
-  out += `${pad(m.name, 26)}${lpad(secs(m.sightline_s), 12)}${lpad(ref, 22)}${lpad(m.ratio.toFixed(2), 9)}\n`;
+  out += `${pad(m.name, 30)}${lpad(secs(m.sightline_s), 12)}${lpad(ref, 23)}${lpad(m.ratio.toFixed(2), 9)}\n`;
 }
 out += '\nwhat each number is:\n';
 for (const m of measurements) out += `  ${m.name}: ${m.what}\n`;
@@ -678,6 +831,23 @@ for (const [label, c] of [
 ]) {
   out += `  ${label}'s constrained τ against the simulated τ: ${c.n} bands, within 1σ ${pct(c.within_1sigma)}, within 3σ ${pct(c.within_3sigma)}; ${c.true_tau_below_quarter_width} of them simulated with τ below a quarter of the pulse width\n`;
 }
+const cubeBest = slCube.best_trial;
+out += `\ncube DM refinement: ${cubeTruth.source}, ${cubeData.nchan} channels × ${cubeData.nbin} bins over ${cubeTruth.freqs_mhz[0].toFixed(2)}–${cubeTruth.freqs_mhz.at(-1).toFixed(2)} MHz, P = ${cubeTruth.period_s * 1e3} ms, dedispersed at DM ${cubeTruth.dm_applied}, true DM ${cubeTruth.dm_true.toFixed(4)}; ${CUBE_TRIALS} trials over ${cubeTruth.trials_dm[0].toFixed(4)}–${cubeTruth.trials_dm.at(-1).toFixed(4)} (step ${cubeTruth.trial_step.toExponential(3)})\n`;
+out += `  Sightline: ${slCube.used_channels} channels used, weighted centre ${slCube.centre_mhz.toFixed(2)} MHz; best trial ${cubeBest} (DM ${slCube.best_dm.toFixed(5)}, S/N ${slCube.best_snr.toFixed(2)}); NumPy best trial ${npCubeExp.report.best_trial} (cexp), ${npCubeTrig.report.best_trial} (trig)\n`;
+out += `  Sightline stages: harmonicsOf ${secs(slCube.fft_s)}, prepareTemplate + analyseCube (harmonics again + ${cubeData.nchan} template matches) ${secs(slCube.analyse_s)}, weights + centre + shifts + DmShifter ${secs(slCube.shifter_s)}, trials ${secs(slCube.trials_s)} (${((1e3 * slCube.trials_s) / CUBE_TRIALS).toFixed(2)} ms each); load ${secs(slCube.load_s)} (not timed)\n`;
+for (const [label, r] of [
+  ['NumPy cexp', npCubeExp.report],
+  ['NumPy trig', npCubeTrig.report],
+]) {
+  out += `  ${label} stages: rfft ${secs(r.rfft_s)}, cross-spectra ${secs(r.setup_s)}, trials ${secs(r.trials_s)} (${((1e3 * r.trials_s) / CUBE_TRIALS).toFixed(2)} ms each); load ${secs(r.load_s)} (not timed)\n`;
+}
+for (const [label, a] of [
+  ['NumPy cexp', cubeAgreement.numpy_cexp],
+  ['NumPy trig', cubeAgreement.numpy_trig],
+]) {
+  out += `  S/N agreement with ${label} over ${a.compared} trials: max ${sciNote(a.max_rel ?? null)} relative (required ≤ 1e-6 at every trial), median ${sciNote(a.median_rel ?? null)}; worst at trial ${a.worst?.trial ?? '-'} (DM ${a.worst?.dm ?? '-'}: ${a.worst?.sightline ?? '-'} vs ${a.worst?.numpy ?? '-'}); phase of the maximum within ${sciNote(a.max_phase_diff_turns ?? null)} turns\n`;
+}
+for (const p of cubeProblems) out += `  DISAGREES: ${p}\n`;
 out += `\ncode: commit ${code.commit}${code.uncommitted.length ? ` + uncommitted changes in ${code.uncommitted.join(', ')}` : ' (clean)'}\n`;
 out += `machine: node ${machine.node}, numpy ${machine.numpy}, scipy ${machine.scipy} (python ${machine.python}), nproc ${machine.nproc}, ${machine.cpu}, ${machine.memory_gib} GiB, ${machine.platform}\n`;
 const blas = Object.entries(machine.openblas_env);
@@ -707,6 +877,22 @@ const result = {
       width_periods: [0.01, 0.02],
       peak_snr: [20, 100],
     },
+    cube: {
+      source: cubeTruth.source,
+      nchan: cubeTruth.nchan,
+      nbin: cubeTruth.nbin,
+      seed: CUBE_SEED,
+      freq_mhz: [cubeTruth.freqs_mhz[0], cubeTruth.freqs_mhz.at(-1)],
+      period_s: cubeTruth.period_s,
+      dm_applied: cubeTruth.dm_applied,
+      dm_true: cubeTruth.dm_true,
+      k: cubeTruth.k,
+      noise: cubeTruth.noise,
+      components: cubeTruth.components,
+      trials: CUBE_TRIALS,
+      trial_dm: [cubeTruth.trials_dm[0], cubeTruth.trials_dm.at(-1)],
+      trial_step: cubeTruth.trial_step,
+    },
   },
   measurements,
   runs: {
@@ -719,11 +905,15 @@ const result = {
     scatter_scipy_fd: scipyFd.report,
     scatter_scipy_analytic: scipyAn.report,
     scatter_measured_bands: measuredBands,
+    cube_sightline: slCube,
+    cube_numpy_cexp: npCubeExp.report,
+    cube_numpy_trig: npCubeTrig.report,
   },
   agreement: {
     ...agreement,
     first_dms: firstDms,
     scatter: { ...scatterAgreement, first_taus: firstTaus },
+    cube: cubeAgreement,
   },
 };
 let text = JSON.stringify(result, null, 2) + '\n';
@@ -737,3 +927,4 @@ try {
 writeFileSync(join(BENCH, 'last-run.json'), text);
 log(`results written to tests/bench/last-run.json${KEEP ? `; data kept in ${dir}` : ''}`);
 if (agreement.problems.length) fail('Sightline and NumPy disagree (see above)');
+if (cubeProblems.length) fail('the cube S/N curves of Sightline and NumPy disagree (see above)');

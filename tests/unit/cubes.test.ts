@@ -4,7 +4,7 @@ import { dwt, idwt, waveletDenoise, waveletLevels } from '../../shared/dsp/wavel
 import { harmonicsOf, resampleHarmonics, wrapPhase } from '../../shared/cubes/cube.js';
 import { analyseCube, prepareTemplate } from '../../shared/cubes/context.js';
 import { matchProfile, PeakFinder } from '../../shared/cubes/match.js';
-import { buildTemplate } from '../../shared/cubes/template.js';
+import { buildTemplate, scrunchCube } from '../../shared/cubes/template.js';
 import { trialDms } from '../../shared/cubes/refine.js';
 import { cubeFromProfiles } from '../../shared/cubes/cube.js';
 import { InputError } from '../../shared/formats/errors.js';
@@ -192,8 +192,10 @@ describe('template building', () => {
   it('aligns and averages many visits into a template matching the truth, peak at phase ½', () => {
     const rng = createRng(11);
     const cubes = Array.from({ length: 30 }, (_, v) =>
-      cubeFromProfiles(
-        cubeSet(100 + v, { phase: rng.uniform(), dmTrue: 21.36 + 2e-3 * rng.normal() }).set,
+      scrunchCube(
+        cubeFromProfiles(
+          cubeSet(100 + v, { phase: rng.uniform(), dmTrue: 21.36 + 2e-3 * rng.normal() }).set,
+        ),
       ),
     );
     const truth = simulateTemplate(
@@ -231,8 +233,8 @@ describe('template building', () => {
   });
 
   it('refuses cubes of two pulsars, naming the odd one', () => {
-    const a = cubeFromProfiles(cubeSet(1).set);
-    const b = cubeFromProfiles({ ...cubeSet(2).set, source: 'SBP-C' });
+    const a = scrunchCube(cubeFromProfiles(cubeSet(1).set));
+    const b = scrunchCube(cubeFromProfiles({ ...cubeSet(2).set, source: 'SBP-C' }));
     try {
       buildTemplate([a, b], { smooth: 'fourier' });
       expect.unreachable();
