@@ -8,6 +8,7 @@ import { toasCommand } from './commands/toas.js';
 import { demoCommand } from './commands/demo.js';
 import { scatterCommand } from './commands/scatter.js';
 import { templateCommand } from './commands/template.js';
+import { scintCommand } from './commands/scint.js';
 import { baselineCommand, runsCommand, serveCommand } from './commands/review.js';
 
 export function buildProgram(): Command {
@@ -26,6 +27,7 @@ export function buildProgram(): Command {
     toasCommand(),
     templateCommand(),
     scatterCommand(),
+    scintCommand(),
     runsCommand(),
     baselineCommand(),
     serveCommand(),

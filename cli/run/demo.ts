@@ -101,6 +101,20 @@ export function writeDemo(dir: string, seed: number, force = false): string[] {
       writeFileSync(join(temp, `${rel}.json`), JSON.stringify(sidecar) + '\n');
     }
     files.push(join(dir, 'cubes', name) + '/');
+    mkdirSync(join(temp, 'dynspec', name), { recursive: true });
+    for (const d of set.dynspecs) {
+      const rel = `dynspec/${name}/${name}_${d.mjd}.npy`;
+      writeFileSync(join(temp, rel), writeNpy(d.data, [d.nchan, d.nsub]));
+      const sidecar = {
+        source: d.source,
+        mjd: d.mjd,
+        receiver: d.receiver,
+        freqs_mhz: { start: d.f0_mhz, step: d.df_mhz },
+        times_s: { start: 0, step: d.dt_s },
+      };
+      writeFileSync(join(temp, `${rel}.json`), JSON.stringify(sidecar) + '\n');
+    }
+    files.push(join(dir, 'dynspec', name) + '/');
     put(
       `toas/${name}.csv`,
       stringify([columns as unknown as string[], ...set.toas.map((t) => columns.map((c) => t[c]))]),
@@ -120,7 +134,15 @@ function isDemoFolder(folder: string): boolean {
       generated_by?: { name?: string };
       observatory?: string;
     };
-    const known = new Set(['pulsars.json', 'toas', 'truth', 'profiles', 'cubes', 'results']);
+    const known = new Set([
+      'pulsars.json',
+      'toas',
+      'truth',
+      'profiles',
+      'cubes',
+      'dynspec',
+      'results',
+    ]);
     return (
       catalogue.generated_by?.name === 'sightline' &&
       catalogue.observatory === DEMO_OBSERVATORY &&

@@ -5,6 +5,7 @@ export * from './dm-fit.js';
 export * from './dm-series.js';
 export * from './scatter-fit.js';
 export * from './dm-refine.js';
+export * from './scint.js';
 export * from './review.js';
 export * from './analysis.js';
 export * from './api.js';

@@ -1,6 +1,7 @@
 import { createRng, type Rng } from './random.js';
 import { simulateProfiles } from './profiles.js';
 import { simulateCube } from './cubes.js';
+import { simulateDynspec } from './scint.js';
 import {
   DEMO_CADENCE_DAYS,
   DEMO_MJD_END,
@@ -35,7 +36,22 @@ export interface DemoTruth {
     tau_1ghz_us: number;
     /** the DM the visit's cube was simulated with (catalogue DM + ISM + solar wind) */
     cube_dm: number;
+    /** the dynamic spectrum's injected scintle widths (at its band centre) and receiver */
+    dynspec?: { receiver: string; dnu_d_mhz: number; dt_d_s: number; resolved: boolean };
   }>;
+}
+
+/** One visit's simulated dynamic spectrum on one receiver: channels × sub-integrations. */
+export interface DemoDynspec {
+  source: string;
+  mjd: string;
+  receiver: string;
+  f0_mhz: number;
+  df_mhz: number;
+  dt_s: number;
+  nchan: number;
+  nsub: number;
+  data: Float32Array;
 }
 
 /** One visit's simulated profile cube: channels across each receiver used, row-major. */
@@ -127,6 +143,29 @@ const CUBE_BAD_LOW = [5, 6];
 /** phase of the pulse peak at the cube epoch (infinite frequency) */
 const CUBE_PHASE = 0.3;
 
+/** Dynamic spectra: grid, receiver per pulsar, scintillation time, interference. */
+const DYN_CHANNELS = 128;
+const DYN_SUBINTS = 64;
+const DYN_SUBINT_S = 30;
+const DYN_RECEIVER: Record<string, string> = {
+  'SBP-A': 'mid',
+  'SBP-B': 'mid',
+  'SBP-C': 'mid',
+  'SBP-D': 'low',
+  'SBP-E': 'mid',
+  'SBP-F': 'low',
+};
+const DYN_DT_D_S: Record<string, number> = {
+  'SBP-A': 600,
+  'SBP-B': 450,
+  'SBP-C': 240,
+  'SBP-D': 150,
+  'SBP-E': 300,
+  'SBP-F': 90,
+};
+/** the persistent interference block, by channel of the dynamic spectrum, per receiver */
+const DYN_PERSISTENT: Record<string, number[]> = { low: [21, 22, 23], mid: [40, 41, 42, 43] };
+
 const RECEIVER_OFFSET_US: Record<string, number> = { low: 0.8, mid: 0, high: -0.5 };
 const SUBBANDS: Record<string, number> = { low: 4, mid: 6, high: 4 };
 
@@ -171,7 +210,13 @@ function hash(s: string): number {
 export function simulateDemoPulsar(
   p: DemoPulsar,
   seed: number,
-): { toas: DemoToa[]; truth: DemoTruth; profiles: DemoProfiles[]; cubes: DemoCube[] } {
+): {
+  toas: DemoToa[];
+  truth: DemoTruth;
+  profiles: DemoProfiles[];
+  cubes: DemoCube[];
+  dynspecs: DemoDynspec[];
+} {
   const k = dispersionConstant('conventional');
   const rng = createRng(seed * 7919 + hash(p.source));
   // profiles draw from their own stream, so the arrival times do not depend on them
@@ -179,6 +224,8 @@ export function simulateDemoPulsar(
   // and cubes from theirs, so adding cubes changed neither
   const cubeRng = createRng(seed * 130363 + hash(p.source));
   const cubes: DemoCube[] = [];
+  const dynRng = createRng(seed * 15485863 + hash(p.source));
+  const dynspecs: DemoDynspec[] = [];
   const ism = demoIsmDm(p, seed);
   const b = BEHAVIOUR[p.source];
   const sc = b.scatter;
@@ -248,8 +295,83 @@ export function simulateDemoPulsar(
     });
     profiles.push(demoProfiles(p, b, start, tau1, profileFreqs, profileRng));
     cubes.push(demoCube(p, b, start, p.dm + ddm + solar, tau1, cubeReceivers, cubeRng));
+    const dyn = demoDynspec(p, b, start, tau1, dynRng);
+    dynspecs.push(dyn.spectrum);
+    truth.visits[truth.visits.length - 1].dynspec = dyn.truth;
   }
-  return { toas, truth, profiles, cubes };
+  return { toas, truth, profiles, cubes, dynspecs };
+}
+
+/**
+ * A visit's dynamic spectrum on the pulsar's dynamic-spectrum receiver: scintles of bandwidth
+ * Δν_d = C₁/(2π τ) at the band centre (τ from the visit's scattering, C₁ = 1.16) and the
+ * pulsar's scintillation time; scintles narrower than a channel are averaged down (their
+ * modulation falls as √(Δν_d/channel)), as a real channelised spectrum does. A persistent
+ * interference block and, in some visits, a narrow burst and a broadband one.
+ */
+function demoDynspec(
+  p: DemoPulsar,
+  b: Behaviour,
+  mjd: number,
+  tau1GhzUs: number,
+  rng: Rng,
+): { spectrum: DemoDynspec; truth: NonNullable<DemoTruth['visits'][number]['dynspec']> } {
+  const r = RECEIVERS.find((x) => x.name === DYN_RECEIVER[p.source])!;
+  const df = (r.hiMhz - r.loMhz) / DYN_CHANNELS;
+  const centre = (r.loMhz + r.hiMhz) / 2;
+  const tauUs = tau1GhzUs * (centre / 1000) ** -b.scatter.alpha;
+  const dnuD = 1.16 / (2 * Math.PI * tauUs);
+  const dtD = DYN_DT_D_S[p.source] * (0.8 + 0.4 * rng.uniform());
+  const resolved = dnuD >= df;
+  const bursts: Array<{ chan0: number; chan1: number; sub0: number; sub1: number; level: number }> =
+    [];
+  if (rng.uniform() < 0.4) {
+    const c0 = rng.int(DYN_CHANNELS - 3);
+    const s0 = rng.int(DYN_SUBINTS - 6);
+    bursts.push({
+      chan0: c0,
+      chan1: c0 + 1 + rng.int(2),
+      sub0: s0,
+      sub1: s0 + 2 + rng.int(4),
+      level: 6,
+    });
+  }
+  if (rng.uniform() < 0.2) {
+    const s0 = rng.int(DYN_SUBINTS);
+    bursts.push({ chan0: 0, chan1: DYN_CHANNELS - 1, sub0: s0, sub1: s0, level: 3 });
+  }
+  const data = simulateDynspec(
+    {
+      nchan: DYN_CHANNELS,
+      nsub: DYN_SUBINTS,
+      f0Mhz: r.loMhz + df / 2,
+      dfMhz: df,
+      dtS: DYN_SUBINT_S,
+      dnuDMhz: Math.max(dnuD, 0.5 * df),
+      dtDS: dtD,
+      flux: 1,
+      modulation: Math.min(1, Math.sqrt(dnuD / df)),
+      noise: 0.3,
+      persistent: { channels: DYN_PERSISTENT[r.name], level: 3 },
+      bursts,
+    },
+    rng,
+  );
+  const epoch = normalise({ day: Math.floor(mjd), sec: Math.floor((mjd % 1) * 86400), frac: 0 });
+  return {
+    spectrum: {
+      source: p.source,
+      mjd: formatMjd(epoch, 6),
+      receiver: r.name,
+      f0_mhz: Number((r.loMhz + df / 2).toFixed(6)),
+      df_mhz: Number(df.toFixed(6)),
+      dt_s: DYN_SUBINT_S,
+      nchan: DYN_CHANNELS,
+      nsub: DYN_SUBINTS,
+      data: Float32Array.from(data),
+    },
+    truth: { receiver: r.name, dnu_d_mhz: dnuD, dt_d_s: dtD, resolved },
+  };
 }
 
 /**
@@ -375,7 +497,13 @@ export interface DemoDataSet {
   seed: number;
   pulsars: DemoPulsar[];
   solarN0: number;
-  sets: Array<{ toas: DemoToa[]; truth: DemoTruth; profiles: DemoProfiles[]; cubes: DemoCube[] }>;
+  sets: Array<{
+    toas: DemoToa[];
+    truth: DemoTruth;
+    profiles: DemoProfiles[];
+    cubes: DemoCube[];
+    dynspecs: DemoDynspec[];
+  }>;
 }
 
 export function simulateDemo(seed = 1): DemoDataSet {
