@@ -1,10 +1,14 @@
-import { median } from '../stats/summary.js';
+/** Median of numbers through a typed-array sort (numeric, and far quicker than Array#sort). */
+function median(values: ArrayLike<number>): number {
+  const s = Float64Array.from(values).sort();
+  const n = s.length;
+  if (n === 0) return NaN;
+  return n % 2 ? s[(n - 1) / 2] : 0.5 * (s[n / 2 - 1] + s[n / 2]);
+}
 import type { DynSpec } from './dynspec.js';
 
 /**
  * Interference flagging of a dynamic spectrum (science.md "RFI"):
- * - a smooth model M of the spectrum by running medians (5 sub-integrations, then 5 channels),
- *   which follows scintles a few pixels wide but not single-pixel spikes;
  * - whole channels whose noise — the robust σ of second differences along time,
  *   1.4826·MAD/√6, which scintles (smooth in time) barely change — lies above
  *   the upper Tukey fence Q3 + k·IQR of log σ over all channels (Tukey 1977; k = `fence`, 1.5 by
@@ -44,7 +48,7 @@ export interface RfiResult {
   flaggedFraction: number;
   /** 1 − √(Σ_kept M² / Σ_all M²): the matched-filter S/N lost to flagging */
   snrCostFraction: number;
-  /** the smooth model M (for the S/N cost and pictures) */
+  /** the smooth signal M: a running median along time (for the S/N cost) */
   model: Float64Array;
   /** per-channel robust noise σ */
   noise: Float64Array;
@@ -85,8 +89,17 @@ function runningMedian(
     const k = offset + i * stride;
     if (m === 0) out[k] = NaN;
     else {
-      const s = buf.subarray(0, m).sort();
-      out[k] = m % 2 ? s[m >> 1] : (s[m / 2 - 1] + s[m / 2]) / 2;
+      // insertion sort: a handful of values
+      for (let a = 1; a < m; a++) {
+        const v = buf[a];
+        let b = a - 1;
+        while (b >= 0 && buf[b] > v) {
+          buf[b + 1] = buf[b];
+          b--;
+        }
+        buf[b + 1] = v;
+      }
+      out[k] = m % 2 ? buf[m >> 1] : (buf[m / 2 - 1] + buf[m / 2]) / 2;
     }
   }
 }
@@ -126,7 +139,6 @@ export function upperFence(values: ArrayLike<number>, k: number): number {
 /** Channel level and noise over sub-integrations [t0, t1), unflagged pixels only. */
 function channelStats(
   ds: DynSpec,
-  model: Float64Array,
   mask: Uint8Array,
   t0: number,
   t1: number,
@@ -153,7 +165,6 @@ function channelStats(
     const m = median(diffs);
     noise[c] = (1.4826 * median(diffs.map((r) => Math.abs(r - m)))) / Math.sqrt(6);
   }
-  void model;
   return { level, noise };
 }
 
@@ -194,15 +205,14 @@ export function flagRfi(ds: DynSpec, opts: RfiOptions): RfiResult {
   }
 
   // 1. channel fences on the whole observation, then per quarter for the classification
-  let model = smoothModel(ds, mask);
-  const whole = channelStats(ds, model, mask, 0, nsub);
+  const whole = channelStats(ds, mask, 0, nsub);
   const { over, dead } = fencedChannels(whole, opts.fence);
   const quarters = nsub >= 32 ? 2 : 1;
   const votes = new Int32Array(nchan);
   for (let q = 0; q < quarters; q++) {
     const t0 = Math.floor((q * nsub) / quarters);
     const t1 = Math.floor(((q + 1) * nsub) / quarters);
-    const part = fencedChannels(channelStats(ds, model, mask, t0, t1), opts.fence);
+    const part = fencedChannels(channelStats(ds, mask, t0, t1), opts.fence);
     for (const c of part.over) votes[c]++;
   }
   for (const c of dead) flagChannel(c, 'dead');
@@ -212,8 +222,7 @@ export function flagRfi(ds: DynSpec, opts: RfiOptions): RfiResult {
   // 2. pixels beyond pixelSigma robust σ of their channel from a running median along time
   //    (scintles last many sub-integrations, so it follows them even where they are narrower
   //    than a channel; a burst of up to four sub-integrations stands out)
-  model = smoothModel(ds, mask);
-  const noise = channelStats(ds, model, mask, 0, nsub).noise;
+  const noise = channelStats(ds, mask, 0, nsub).noise;
   const along = new Float64Array(nchan * nsub);
   const tbuf = new Float64Array(TIME_WINDOW);
   for (let c = 0; c < nchan; c++)
@@ -295,14 +304,17 @@ export function flagRfi(ds: DynSpec, opts: RfiOptions): RfiResult {
   let flaggedCount = 0;
   let sumAll = 0;
   let sumKept = 0;
-  const finalModel = smoothModel(ds, mask);
+  // the smooth signal: the running median along time (unflagged pixels only)
+  const finalModel = new Float64Array(nchan * nsub);
+  for (let c = 0; c < nchan; c++)
+    runningMedian(data, mask, nsub, 1, c * nsub, finalModel, tbuf, TIME_WINDOW);
+  for (let i = 0; i < finalModel.length; i++) if (Number.isNaN(finalModel[i])) finalModel[i] = 0;
   for (let i = 0; i < mask.length; i++) {
     if (mask[i]) flaggedCount++;
     const s = Math.max(finalModel[i], 0);
     sumAll += s * s;
     if (!mask[i]) sumKept += s * s;
   }
-  // flagged pixels have no model of their own: use the channel's unflagged typical level
   channels.sort((a, b) => a.channel - b.channel);
   return {
     mask,
