@@ -37,12 +37,25 @@
 //      The NumPy script runs twice: --form cexp (np.exp of the complex phase array, as the sum is
 //      written) and --form trig (np.cos/np.sin into preallocated buffers, np.einsum sums: the
 //      tuned loop). Both S/N curves must agree with Sightline's to 1e-6 relative at every trial;
-//   7. prints a table (ratio = Sightline / reference; below 1 means Sightline is faster) and
+//   7. dynamic-spectrum ACF: writes one seeded dynamic spectrum of 1024 channels × 4096
+//      sub-integrations (float64 .npy, ≈ 5 % of the pixels flagged as NaN: 12 whole channels and
+//      random blocks; tests/bench/acf-data.ts, through shared/sim/scint.ts simulateDynspec at full
+//      size). Sightline (tests/bench/acf-only.ts, bundled like the CLI) reads it into a DynSpec
+//      with dynspecFromArray (not timed) and times maskedAcf(ds, ds.inputMask) whole: ΔI and W,
+//      one complex 2-D FFT of ΔI + i·W zero-padded to 2048 × 8192, the spectra separated into
+//      |ΔĨ|² + i|W̃|², one inverse, the crop to lags ±(n − 1) and the division by the rounded pair
+//      counts. NumPy (tests/bench/acf_numpy.py) loads the same file (not timed) and times the
+//      same computation whole: ΔI, W and the mean; np.fft.rfft2 of each with s=(2048, 8192),
+//      X.real**2 + X.imag**2, np.fft.irfft2 of each; the same crop, np.rint pair counts and
+//      minimum-pairs rule. Best of 3 passes on each side (in one process each); the peak
+//      resident set of each process (getrusage maxrss) is reported for information. Every
+//      finite ACF value must agree to 1e-9 of the zero-lag value, NaN exactly where NaN;
+//   8. prints a table (ratio = Sightline / reference; below 1 means Sightline is faster) and
 //      writes tests/bench/last-run.json. The temporary folder is removed (unless --keep).
 //
 // Benchmarks are never test assertions: this script only exits non-zero when a step fails, the
-// DM results disagree or the cube S/N curves disagree (the scattering agreement is reported,
-// not enforced).
+// DM results disagree, the cube S/N curves disagree or the ACFs disagree (the scattering
+// agreement is reported, not enforced).
 import { spawnSync } from 'node:child_process';
 import {
   closeSync,
@@ -196,7 +209,7 @@ function writeTable(path, nVisits) {
 }
 
 // ---------------------------------------------------------------------------------------------
-// 3. agreement (and 5., the scattering τ; 6., the cube S/N curves)
+// 3. agreement (and 5., the scattering τ; 6., the cube S/N curves; 7., the ACFs)
 
 /** numpy's per-visit CSV → Map source → visits in time order. */
 function readNumpyVisits(path) {
@@ -447,6 +460,120 @@ function compareCurves(sl, np, trialsDm) {
     worst: at(worst),
     max_phase_diff_turns: phaseDiff,
     best_trial: { sightline: argmax(sl.snr), numpy: argmax(np.snr) },
+    problems,
+  };
+}
+
+/**
+ * A float64 little-endian C-order .npy file (format 1.0–3.0, as numpy.save and
+ * shared/profiles/npy-write.ts write it) → { shape, data }. Anything else is refused by name.
+ */
+function readNpyF8(path) {
+  const buf = readFileSync(path);
+  const magic = [0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59];
+  if (buf.length < 10 || magic.some((b, i) => buf[i] !== b)) fail(`${path}: not a .npy file`);
+  const major = buf[6];
+  const lenSize = major === 1 ? 2 : 4;
+  const headerLen = lenSize === 2 ? buf.readUInt16LE(8) : buf.readUInt32LE(8);
+  const start = 8 + lenSize + headerLen;
+  const header = buf.toString('latin1', 8 + lenSize, start);
+  const descr = /'descr':\s*'([^']*)'/.exec(header)?.[1];
+  const fortran = /'fortran_order':\s*(True|False)/.exec(header)?.[1];
+  const shapeText = /'shape':\s*\(([^)]*)\)/.exec(header)?.[1];
+  if (descr !== '<f8' || fortran !== 'False' || shapeText === undefined) {
+    fail(`${path}: expected a float64 ('<f8') C-order array, header ${header.trim()}`);
+  }
+  const shape = shapeText
+    .split(',')
+    .map((t) => t.trim())
+    .filter(Boolean)
+    .map(Number);
+  const count = shape.reduce((a, b) => a * b, 1);
+  if (buf.length !== start + 8 * count) {
+    fail(`${path}: ${buf.length - start} data bytes for shape (${shape.join(', ')})`);
+  }
+  const data =
+    (buf.byteOffset + start) % 8 === 0
+      ? new Float64Array(buf.buffer, buf.byteOffset + start, count)
+      : new Float64Array(buf.buffer.slice(buf.byteOffset + start, buf.byteOffset + buf.length));
+  return { shape, data };
+}
+
+/**
+ * The two ACFs (both [2·nchan − 1, 2·nsub − 1], zero lag at [nchan − 1, nsub − 1]), lag by lag:
+ * NaN (too few pixel pairs) must be NaN on both sides, and every finite value must agree to
+ * 1e-9 of Sightline's zero-lag value, |a − b| ≤ 1e-9·|ACF(0, 0)| (the brief's bar, enforced like
+ * the DM agreement). Reports the largest and mean difference in those units and where the
+ * largest is.
+ */
+function compareAcf(sl, np, nchan, nsub) {
+  const [rows, cols] = sl.shape;
+  if (rows !== 2 * nchan - 1 || cols !== 2 * nsub - 1 || np.shape.join() !== sl.shape.join()) {
+    return {
+      compared: 0,
+      problems: [
+        `shapes: Sightline ${sl.shape.join(' × ')}, NumPy ${np.shape.join(' × ')}, expected ${2 * nchan - 1} × ${2 * nsub - 1}`,
+      ],
+    };
+  }
+  const zero = sl.data[(nchan - 1) * cols + nsub - 1];
+  const scale = Math.abs(zero);
+  const problems = [];
+  if (!(scale > 0 && Number.isFinite(scale))) problems.push(`zero-lag value ${zero}`);
+  let compared = 0;
+  let nanBoth = 0;
+  let nanOnlySightline = 0;
+  let nanOnlyNumpy = 0;
+  let worst = 0;
+  let worstAt = -1;
+  let sum = 0;
+  const lagOf = (i) => ({
+    chan_lag: Math.floor(i / cols) - (nchan - 1),
+    sub_lag: (i % cols) - (nsub - 1),
+  });
+  for (let i = 0; i < sl.data.length; i++) {
+    const a = sl.data[i];
+    const b = np.data[i];
+    const an = Number.isNaN(a);
+    const bn = Number.isNaN(b);
+    if (an || bn) {
+      if (an && bn) nanBoth++;
+      else {
+        if (an) nanOnlySightline++;
+        else nanOnlyNumpy++;
+        if (problems.length < 20) {
+          const { chan_lag, sub_lag } = lagOf(i);
+          problems.push(`lag (${chan_lag}, ${sub_lag}): Sightline ${a}, NumPy ${b}`);
+        }
+      }
+      continue;
+    }
+    compared++;
+    const d = Math.abs(a - b) / scale;
+    sum += d;
+    if (!(d <= worst)) {
+      worst = d;
+      worstAt = i;
+    }
+    if (!(d <= 1e-9) && problems.length < 20) {
+      const { chan_lag, sub_lag } = lagOf(i);
+      problems.push(
+        `lag (${chan_lag}, ${sub_lag}): ${a} vs ${b} (${d.toExponential(2)} of the zero-lag value)`,
+      );
+    }
+  }
+  return {
+    compared,
+    nan_both: nanBoth,
+    nan_only_sightline: nanOnlySightline,
+    nan_only_numpy: nanOnlyNumpy,
+    zero_lag: { sightline: zero, numpy: np.data[(nchan - 1) * cols + nsub - 1] },
+    max_diff_over_zero_lag: worst,
+    mean_diff_over_zero_lag: compared ? sum / compared : null,
+    worst:
+      worstAt >= 0
+        ? { ...lagOf(worstAt), sightline: sl.data[worstAt], numpy: np.data[worstAt] }
+        : null,
     problems,
   };
 }
@@ -708,7 +835,50 @@ const cubeProblems = Object.entries(cubeAgreement).flatMap(([form, a]) =>
 );
 
 // ---------------------------------------------------------------------------------------------
-// 7. report
+// 7. dynamic-spectrum ACF: the same mask-aware autocorrelation, Sightline and NumPy
+
+const ACF_SEED = SEED + 3;
+log('ACF: writing a 1024 × 4096 dynamic spectrum with ≈ 5 % of its pixels flagged');
+const acfDataJs = await bundle('acf-data');
+const acfOnlyJs = await bundle('acf-only');
+const acfData = JSON.parse(
+  run(process.execPath, [acfDataJs, dir, String(ACF_SEED)], 'ACF data').stdout,
+);
+const acfNpy = join(dir, 'acf-dynspec.npy');
+const acfTruthJson = join(dir, 'acf-truth.json');
+const acfTruth = JSON.parse(readFileSync(acfTruthJson, 'utf8'));
+log(
+  `wrote a ${acfData.nchan} × ${acfData.nsub} spectrum (${(acfData.bytes / 1e6).toFixed(1)} MB, ${(100 * acfData.flagged_fraction).toFixed(2)} % flagged) in ${acfData.write_s.toFixed(1)} s`,
+);
+log('Sightline: maskedAcf, best of 3 (bundled like the CLI)');
+const slAcfOut = join(dir, 'acf-sightline.npy');
+const slAcf = JSON.parse(
+  run(
+    process.execPath,
+    [acfOnlyJs, acfNpy, acfTruthJson, slAcfOut, '--repeat', '3'],
+    'ACF (Sightline)',
+  ).stdout,
+);
+log('NumPy: rfft2, |X|², irfft2, crop and divide, best of 3');
+const npAcfOut = join(dir, 'acf-numpy.npy');
+const npAcf = JSON.parse(
+  run(
+    PYTHON,
+    [join(BENCH, 'acf_numpy.py'), acfNpy, npAcfOut, '--repeat', '3', '--min-pairs', '0.05'],
+    'ACF (NumPy)',
+  ).stdout,
+);
+log('comparing the ACFs lag by lag');
+const acfAgreement = compareAcf(
+  readNpyF8(slAcfOut),
+  readNpyF8(npAcfOut),
+  acfData.nchan,
+  acfData.nsub,
+);
+const acfProblems = acfAgreement.problems;
+
+// ---------------------------------------------------------------------------------------------
+// 8. report
 
 const measurements = [
   {
@@ -781,6 +951,13 @@ const measurements = [
     reference: 'numpy',
     reference_s: npCubeExp.report.rfft_s,
   },
+  {
+    name: 'ACF 1024 × 4096',
+    what: `maskedAcf(ds, ds.inputMask) on ${acfData.nchan} channels × ${acfData.nsub} sub-integrations (${(100 * acfData.flagged_fraction).toFixed(1)} % flagged; one complex 2-D FFT of ΔI + i·W padded to ${npAcf.padded.join(' × ')}, one inverse, crop, division by the rounded pair counts; bundled like the CLI) vs NumPy: ΔI, W, np.fft.rfft2 of each with the same padding, X.real**2 + X.imag**2, np.fft.irfft2 of each, the same crop and division; best of 3 each, loading not timed`,
+    sightline_s: slAcf.acf_s,
+    reference: 'numpy',
+    reference_s: npAcf.acf_s,
+  },
 ].map((m) => ({ ...m, ratio: m.sightline_s / m.reference_s }));
 
 const pad = (s, n) => String(s).padEnd(n);
@@ -848,6 +1025,11 @@ for (const [label, a] of [
   out += `  S/N agreement with ${label} over ${a.compared} trials: max ${sciNote(a.max_rel ?? null)} relative (required ≤ 1e-6 at every trial), median ${sciNote(a.median_rel ?? null)}; worst at trial ${a.worst?.trial ?? '-'} (DM ${a.worst?.dm ?? '-'}: ${a.worst?.sightline ?? '-'} vs ${a.worst?.numpy ?? '-'}); phase of the maximum within ${sciNote(a.max_phase_diff_turns ?? null)} turns\n`;
 }
 for (const p of cubeProblems) out += `  DISAGREES: ${p}\n`;
+out += `\nACF: ${acfTruth.source}, ${acfData.nchan} channels × ${acfData.nsub} sub-integrations (Δν_d ${acfTruth.dnu_d_mhz} MHz = ${acfTruth.dnu_d_mhz / acfTruth.df_mhz} channels, Δt_d ${acfTruth.dt_d_s} s = ${acfTruth.dt_d_s / acfTruth.dt_s} sub-integrations), ${acfTruth.flagged_pixels} pixels flagged (${(100 * acfTruth.flagged_fraction).toFixed(2)} %: ${acfTruth.flagged_channels.length} whole channels, ${acfTruth.n_blocks} blocks); padded to ${npAcf.padded.join(' × ')} (scipy.fft.next_fast_len of 2n − 1: ${npAcf.next_fast_len?.join(' × ') ?? 'n/a'})\n`;
+out += `  Sightline maskedAcf runs ${slAcf.acf_runs_s.map(secs).join(', ')}; load ${secs(slAcf.load_s)} (not timed); peak RSS ${slAcf.max_rss_first_pass_mb.toFixed(0)} MB after the first pass (${slAcf.max_rss_loaded_mb.toFixed(0)} MB after loading)\n`;
+out += `  NumPy runs ${npAcf.acf_runs_s.map(secs).join(', ')}; best: prep ${secs(npAcf.stages_s.prep_s)}, transforms ${secs(npAcf.stages_s.transforms_s)}, crop ${secs(npAcf.stages_s.crop_s)}, divide ${secs(npAcf.stages_s.divide_s)}; load ${secs(npAcf.load_s)} (not timed); peak RSS ${npAcf.max_rss_first_pass_mb.toFixed(0)} MB after the first pass (${npAcf.max_rss_loaded_mb.toFixed(0)} MB after loading)\n`;
+out += `  agreement over ${acfAgreement.compared} finite lags: max ${sciNote(acfAgreement.max_diff_over_zero_lag ?? null)}, mean ${sciNote(acfAgreement.mean_diff_over_zero_lag ?? null)} of the zero-lag value ${acfAgreement.zero_lag?.sightline ?? '-'} (required ≤ 1e-9); NaN on both sides at ${acfAgreement.nan_both ?? '-'} lags, on one side only at ${(acfAgreement.nan_only_sightline ?? 0) + (acfAgreement.nan_only_numpy ?? 0)}\n`;
+for (const p of acfProblems) out += `  DISAGREES: ${p}\n`;
 out += `\ncode: commit ${code.commit}${code.uncommitted.length ? ` + uncommitted changes in ${code.uncommitted.join(', ')}` : ' (clean)'}\n`;
 out += `machine: node ${machine.node}, numpy ${machine.numpy}, scipy ${machine.scipy} (python ${machine.python}), nproc ${machine.nproc}, ${machine.cpu}, ${machine.memory_gib} GiB, ${machine.platform}\n`;
 const blas = Object.entries(machine.openblas_env);
@@ -893,6 +1075,24 @@ const result = {
       trial_dm: [cubeTruth.trials_dm[0], cubeTruth.trials_dm.at(-1)],
       trial_step: cubeTruth.trial_step,
     },
+    acf: {
+      source: acfTruth.source,
+      nchan: acfTruth.nchan,
+      nsub: acfTruth.nsub,
+      seed: ACF_SEED,
+      f0_mhz: acfTruth.f0_mhz,
+      df_mhz: acfTruth.df_mhz,
+      dt_s: acfTruth.dt_s,
+      dnu_d_mhz: acfTruth.dnu_d_mhz,
+      dt_d_s: acfTruth.dt_d_s,
+      noise: acfTruth.noise,
+      flagged_pixels: acfTruth.flagged_pixels,
+      flagged_fraction: acfTruth.flagged_fraction,
+      flagged_channels: acfTruth.flagged_channels,
+      n_blocks: acfTruth.n_blocks,
+      padded: npAcf.padded,
+      min_pairs: 0.05,
+    },
   },
   measurements,
   runs: {
@@ -908,12 +1108,15 @@ const result = {
     cube_sightline: slCube,
     cube_numpy_cexp: npCubeExp.report,
     cube_numpy_trig: npCubeTrig.report,
+    acf_sightline: slAcf,
+    acf_numpy: npAcf,
   },
   agreement: {
     ...agreement,
     first_dms: firstDms,
     scatter: { ...scatterAgreement, first_taus: firstTaus },
     cube: cubeAgreement,
+    acf: acfAgreement,
   },
 };
 let text = JSON.stringify(result, null, 2) + '\n';
@@ -928,3 +1131,4 @@ writeFileSync(join(BENCH, 'last-run.json'), text);
 log(`results written to tests/bench/last-run.json${KEEP ? `; data kept in ${dir}` : ''}`);
 if (agreement.problems.length) fail('Sightline and NumPy disagree (see above)');
 if (cubeProblems.length) fail('the cube S/N curves of Sightline and NumPy disagree (see above)');
+if (acfProblems.length) fail('the ACFs of Sightline and NumPy disagree (see above)');
