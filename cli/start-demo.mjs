@@ -1,12 +1,14 @@
 // `npm start`: the review app with the fictional demo, every number from a real fit.
 // 1. generate the demo data set with the project's seeded simulator (first run only);
-// 2. fit it through the real CLI (DM per visit, DM series, corrected arrival times, scattering);
+// 2. fit it through the real CLI (DM per visit, DM series, corrected arrival times, scattering,
+//    scintillation from dynamic spectra);
 // 3. prepare the database (accounts, pulsars, robot tokens) and start the server;
 // 4. push the results through the real CLI and API and review some of them as the lead, so
 //    the review queue has work in it (first run only);
 // 5. print the URL and the demo sign-ins, and keep serving until Ctrl-C.
 import { spawn, spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { availableParallelism } from 'node:os';
 import { join } from 'node:path';
 
 const bin = new URL('../bin/sightline', import.meta.url).pathname;
@@ -31,10 +33,33 @@ function run(args, env = {}) {
   return r.stdout;
 }
 
+/**
+ * Like run, without blocking: for analyses that may run side by side. `written` is the --out
+ * file: exit 1 (the analysis ran but a check failed) with it written is a result too.
+ */
+function runAsync(args, written) {
+  return new Promise((resolve) => {
+    const child = spawn(process.execPath, [bin, ...args], {
+      stdio: ['ignore', 'ignore', 'pipe'],
+    });
+    let stderr = '';
+    child.stderr.setEncoding('utf8').on('data', (c) => (stderr += c));
+    child.on('close', (code) => {
+      if (code === 1 && written && existsSync(written)) {
+        process.stdout.write(`  ${written}: ${stderr.trim().replace(/^sightline: /, '')}\n`);
+      } else if (code !== 0) {
+        process.stderr.write(stderr);
+        fail(`sightline ${args.join(' ')} exited with ${code}`, code ?? 1);
+      }
+      resolve();
+    });
+  });
+}
+
 const step = (text) => process.stdout.write(`• ${text}\n`);
 
 // ── 1 and 2: data and fits ──
-if (!existsSync(join(dir, 'cubes'))) {
+if (!existsSync(join(dir, 'dynspec'))) {
   step(`generating the demo data set in ${dir}`);
   run(['demo', 'generate', '--out', dir, '--seed', '1', ...(existsSync(dir) ? ['--force'] : [])]);
 }
@@ -44,6 +69,12 @@ const catalogue = JSON.parse(readFileSync(catalogueFile, 'utf8'));
 const fitFile = (name, tag = 'fit') => join(out, `${name}.${tag}.json`);
 const scatterPulsars = ['SBP-D', 'SBP-F'];
 const scatterFile = (name) => join(out, `${name}.scatter.json`);
+const npyFiles = (folder) =>
+  readdirSync(folder)
+    .filter((f) => f.endsWith('.npy'))
+    .sort();
+/** the visit whose profiles the scattering fit uses */
+const scatterVisit = (name) => npyFiles(join(dir, 'profiles', name))[10];
 
 if (!existsSync(join(out, 'done'))) {
   step('fitting every pulsar through the CLI (DM per visit, DM series, corrections, scattering)');
@@ -79,14 +110,10 @@ if (!existsSync(join(out, 'done'))) {
     ]);
   }
   for (const name of scatterPulsars) {
-    const folder = join(dir, 'profiles', name);
-    const cube = readdirSync(folder)
-      .filter((f) => f.endsWith('.npy'))
-      .sort()[10];
     run([
       'scatter',
       'fit',
-      join(folder, cube),
+      join(dir, 'profiles', name, scatterVisit(name)),
       '--quiet',
       '--json',
       '--out',
@@ -96,6 +123,56 @@ if (!existsSync(join(out, 'done'))) {
     ]);
   }
   writeFileSync(join(out, 'done'), 'all fits written\n');
+}
+
+// Scintillation: the first visits of three pulsars' dynamic spectra (SBP-F is strongly
+// scattered: its scintles are unresolved), and the visit of a pulsar whose profiles the
+// scattering fit used, with that fit beside it (--tails); side by side on the available cores.
+const scintPulsars = ['SBP-B', 'SBP-E', 'SBP-F'];
+const scintVisits = 4;
+const scintJobs = [];
+const scintFiles = {};
+for (const name of scintPulsars) {
+  const folder = join(dir, 'dynspec', name);
+  const visits = npyFiles(folder);
+  const chosen = visits.slice(0, scintVisits).map((f) => ({ f, tails: null }));
+  if (scatterPulsars.includes(name)) {
+    const same = visits.find((f) => f === scatterVisit(name));
+    if (same && !visits.slice(0, scintVisits).includes(same))
+      chosen.push({ f: same, tails: scatterFile(name) });
+  }
+  scintFiles[name] = [];
+  for (const { f, tails } of chosen) {
+    const target = join(out, f.replace(/\.npy$/, '.scint.json'));
+    scintFiles[name].push(target);
+    if (existsSync(target)) continue;
+    scintJobs.push({
+      args: [
+        'scint',
+        'analyse',
+        join(folder, f),
+        ...(tails ? ['--tails', tails] : []),
+        '--quiet',
+        '--json',
+        '--out',
+        target,
+      ],
+      target,
+    });
+  }
+}
+if (scintJobs.length) {
+  step(`analysing ${scintJobs.length} dynamic spectra through the CLI (scintillation)`);
+  const queue = [...scintJobs];
+  const worker = async () => {
+    while (queue.length) {
+      const job = queue.shift();
+      await runAsync(job.args, job.target);
+    }
+  };
+  await Promise.all(
+    Array.from({ length: Math.min(4, availableParallelism(), queue.length) }, worker),
+  );
 }
 
 // ── 3: database and server ──
@@ -139,15 +216,25 @@ async function waitForServer() {
 await waitForServer();
 
 async function api(email, method, path, body) {
-  const r = await fetch(url + path, {
-    method,
-    headers: {
-      authorization: `Bearer ${signIns.tokens[email]}`,
-      ...(body ? { 'content-type': 'application/json' } : {}),
-    },
-    body: body ? JSON.stringify(body) : undefined,
-    signal: AbortSignal.timeout(30_000),
-  });
+  const send = () =>
+    fetch(url + path, {
+      method,
+      headers: {
+        authorization: `Bearer ${signIns.tokens[email]}`,
+        ...(body ? { 'content-type': 'application/json' } : {}),
+      },
+      body: body ? JSON.stringify(body) : undefined,
+      signal: AbortSignal.timeout(30_000),
+    });
+  let r;
+  try {
+    r = await send();
+  } catch (e) {
+    // a kept-alive connection the server closed while this script waited for the CLI (the
+    // server closes idle ones after a few seconds): the request never reached it; send again
+    if (e?.cause?.code !== 'UND_ERR_SOCKET') throw e;
+    r = await send();
+  }
   const json = await r.json();
   if (!r.ok) fail(`${method} ${path}: ${r.status} ${json.error?.message}`);
   return json;
@@ -181,6 +268,27 @@ if (existing.total === 0) {
     false,
   );
   const scatter = push('ben@saltbush.test', scatterPulsars.map(scatterFile));
+  const anaScint = push('ana@saltbush.test', scintFiles['SBP-B']);
+  push('ben@saltbush.test', [...scintFiles['SBP-E'], ...scintFiles['SBP-F']]);
+
+  // the mid receiver's interference is remembered now: a later visit of SBP-B starts from it
+  const later = npyFiles(join(dir, 'dynspec', 'SBP-B'))[scintVisits];
+  const masked = join(out, later.replace(/\.npy$/, '.masked.scint.json'));
+  step('analysing one more SBP-B visit from the mask the server remembers for its receiver');
+  run(
+    [
+      'scint',
+      'analyse',
+      join(dir, 'dynspec', 'SBP-B', later),
+      '--mask-from-server',
+      '--quiet',
+      '--json',
+      '--out',
+      masked,
+    ],
+    { SIGHTLINE_SERVER: url, SIGHTLINE_TOKEN: signIns.tokens['ana@saltbush.test'] },
+  );
+  push('ana@saltbush.test', [masked], false);
 
   step('reviewing as the lead: approvals, a baseline and its successor, one returned run');
   const review = (run, decision, comment = '') =>
@@ -194,6 +302,7 @@ if (existing.total === 0) {
   await review(byPulsar(anaFits, 'SBP-B'), 'approve', 'clipped at 5σ: replaces the first pass');
   await review(byPulsar(anaFits, 'SBP-C'), 'approve', 'trend and annual term look right');
   await review(byPulsar(scatter, 'SBP-D'), 'approve', 'α consistent with the earlier visits');
+  await review(anaScint[0], 'approve', 'first scintillation baseline for the reference pulsar');
   await review(
     byPulsar(benFits, 'SBP-E'),
     'return',
@@ -212,5 +321,6 @@ process.stdout.write(
     `  curl -c cookies -H 'content-type: application/json' \\\n` +
     `    -d '{"email":"lead@saltbush.test","password":"${signIns.password}"}' ${url}/api/auth/sign-in/email\n` +
     `  curl -b cookies '${url}/api/runs?state=in_review'\n\n` +
-    `Fit files, corrected arrival times and scattering plots: ${out}/\nCtrl-C stops the server.\n`,
+    `Fit files, corrected arrival times, scattering plots and scintillation results: ${out}/\n` +
+    `Ctrl-C stops the server.\n`,
 );

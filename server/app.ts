@@ -12,6 +12,7 @@ import { baselinesRouter } from './routes/baselines.js';
 import { healthRouter } from './routes/health.js';
 import { peopleRouter } from './routes/people.js';
 import { pulsarsRouter } from './routes/pulsars.js';
+import { rfiRouter } from './routes/rfi.js';
 import { runsRouter } from './routes/runs.js';
 import { uploadsRouter } from './routes/uploads.js';
 
@@ -66,6 +67,7 @@ export function createApp({ webDir, services: s, trustProxy }: AppOptions): expr
   app.use('/api', pulsarsRouter(s));
   app.use('/api', runsRouter(s));
   app.use('/api', baselinesRouter(s));
+  app.use('/api', rfiRouter(s));
   app.use('/api', uploadsRouter(s));
   app.use('/api', analysesRouter(s));
   app.use('/api', notFound);

@@ -14,7 +14,7 @@ export function runsCommand(): Command {
       new Command('push')
         .argument(
           '<result...>',
-          'result JSON files written by sightline (dm fit, dm series, scatter fit)',
+          'result JSON files written by sightline (dm fit, dm series, scatter fit, scint analyse)',
         )
         .description(
           'send results to the review app as correction runs; prints each run id and URL',

@@ -18,7 +18,7 @@ export async function readResult(path: string): Promise<ComparableResultJson> {
     .slice(0, 3)
     .map((i) => `${i.path.join('.') || '(top)'}: ${i.message}`);
   throw usageError(
-    `${path}: not a Sightline dm-fit, dm-series or scatter-fit result: ${first.join('; ')}${r.error.issues.length > 3 ? ` (+${r.error.issues.length - 3} more)` : ''}`,
+    `${path}: not a Sightline dm-fit, dm-series, scatter-fit or scint result: ${first.join('; ')}${r.error.issues.length > 3 ? ` (+${r.error.issues.length - 3} more)` : ''}`,
   );
 }
 

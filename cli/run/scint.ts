@@ -13,6 +13,7 @@ import { apiClient, type ApiClient, type ServerOptions } from '../io/api.js';
 import { readDynspec } from '../io/read-dynspec.js';
 import { writeFileAtomic, writeOutput } from '../io/output.js';
 import { csv, fmt, jsonChunks, table } from '../render.js';
+import { scintRows } from '../../shared/review/rows.js';
 
 export interface ScintCliOptions extends CommonOptions, ServerOptions {
   meta?: string;
@@ -175,27 +176,11 @@ export async function runScint(file: string, o: ScintCliOptions): Promise<ScintR
 
 function render(r: ScintResult, format: string): string | Iterable<string> {
   if (format === 'json') return jsonChunks(r);
-  const row = {
-    source: r.source,
-    mjd: r.mjd,
-    receiver: r.receiver,
-    ref_freq_mhz: r.ref_freq_mhz,
-    status: r.status,
-    flagged_fraction: r.rfi.flagged_fraction,
-    snr_cost_fraction: r.rfi.snr_cost_fraction,
-    dnu_d_mhz: r.dnu_d_mhz,
-    dnu_d_err_mhz: r.dnu_d_err_mhz,
-    dt_d_s: r.dt_d_s,
-    dt_d_err_s: r.dt_d_err_s,
-    n_scintles: r.n_scintles,
-    c1: r.c1,
-    tau_us: r.tau_us,
-    tau_err_us: r.tau_err_us,
-    tau_lower_us: r.tau_lower_us,
-    eta_s3: r.arc_curvature?.eta_s3 ?? null,
-    tau_from_tails_us: r.tau_from_tails?.tau_us ?? null,
-  };
-  if (format === 'csv') return csv(Object.keys(row), [Object.values(row)]);
+  if (format === 'csv') {
+    // the same columns as the review app's CSV export of a scint run
+    const { head, rows } = scintRows(r);
+    return csv(head, rows);
+  }
   const pm = (v: number | null, e: number | null, d = 4) =>
     v === null ? '—' : `${fmt(v, d)} ± ${fmt(e, 2)}`;
   let text = `${r.source}${r.mjd ? ` · MJD ${r.mjd}` : ''}${r.receiver ? ` · ${r.receiver}` : ''} · ${r.nchan} channels × ${r.nsub} sub-integrations, ${fmt(r.freq_min_mhz)}–${fmt(r.freq_max_mhz)} MHz\n`;

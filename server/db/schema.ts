@@ -319,6 +319,34 @@ export const baselineChecks = pgTable(
   (t) => [index('baseline_checks_pulsar_idx').on(t.pulsarName, t.kind, t.createdAt)],
 );
 
+/**
+ * Interference channels flagged by scint runs, per receiver: one row per flagged channel of each
+ * scint run whose dynamic spectrum names its receiver (written with the run). `GET /api/rfi/:receiver`
+ * turns them into the receiver's remembered mask (shared/review/rfi-memory.ts).
+ */
+export const rfiChannels = pgTable(
+  'rfi_channels',
+  {
+    id: bigserial('id', { mode: 'number' }).primaryKey(),
+    runId: uuid('run_id')
+      .notNull()
+      .references(() => runs.id, { onDelete: 'cascade' }),
+    receiver: text('receiver').notNull(),
+    /** the channel's index in its dynamic spectrum and its centre frequency */
+    channel: integer('channel').notNull(),
+    freqMhz: doublePrecision('freq_mhz').notNull(),
+    /** the run's channel width (channels of different runs match within half of it) */
+    channelMhz: doublePrecision('channel_mhz').notNull(),
+    /** persistent | intermittent | dead | given */
+    kind: text('kind').notNull(),
+    createdAt: created(),
+  },
+  (t) => [
+    index('rfi_channels_receiver_idx').on(t.receiver),
+    index('rfi_channels_run_idx').on(t.runId),
+  ],
+);
+
 export const ROLES = ['viewer', 'analyst', 'lead', 'admin'] as const;
 export type Role = (typeof ROLES)[number];
 export const RUN_STATES = ['draft', 'in_review', 'approved', 'returned', 'superseded'] as const;

@@ -8,7 +8,7 @@ import type { CreateRunBody, ReviewBody } from '../../shared/schemas/api.js';
 import type { Actor } from '../auth/middleware.js';
 import type { Services } from '../context.js';
 import type { Db } from '../db/client.js';
-import { baselines, pulsars, reviews, runs, user } from '../db/schema.js';
+import { baselines, pulsars, reviews, rfiChannels, runs, user } from '../db/schema.js';
 import { ApiError, badRequest, conflict, forbidden, notFoundError } from '../errors.js';
 import { queueMail, type Notice } from '../mail/mailer.js';
 import { writeAudit } from './audit.js';
@@ -116,6 +116,18 @@ export async function createRun(
         submittedAt: body.submit ? now : null,
       })
       .returning();
+    // a scint run's flagged channels join its receiver's interference memory (GET /api/rfi)
+    if (result.schema === 'sightline/scint@1' && result.receiver && result.rfi.channels.length)
+      await tx.insert(rfiChannels).values(
+        result.rfi.channels.map((c) => ({
+          runId: run.id,
+          receiver: result.receiver as string,
+          channel: c.channel,
+          freqMhz: c.freq_mhz,
+          channelMhz: result.channel_mhz,
+          kind: c.kind,
+        })),
+      );
     const snapshot = { state: run.state, version: run.version, kind, pulsar: pulsar.name };
     await writeAudit(
       tx,

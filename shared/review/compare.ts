@@ -7,12 +7,12 @@ import type {
 } from '../schemas/review.js';
 
 /**
- * Run against run: two results of the same kind, matched visit by visit (dm-fit, dm-series) or
- * band by band (scatter-fit), and every quantity both runs fitted compared in units of the
- * combined error.
+ * Run against run: two results of the same kind, matched visit by visit (dm-fit, dm-series,
+ * scint) or band by band (scatter-fit), and every quantity both runs fitted compared in units of
+ * the combined error.
  */
 
-// ---- inputs: the few fields compare reads (full results of the three schemas fit these) ------
+// ---- inputs: the few fields compare reads (full results of the four schemas fit these) -------
 
 export interface VisitLike {
   source: string;
@@ -64,7 +64,23 @@ export interface ScatterFitLike {
   power_law: PowerLawLike | null;
 }
 
-export type ComparableResult = DmFitLike | DmSeriesLike | ScatterFitLike;
+/** A scint result is one visit: Δν_d, Δt_d and τ (at the band centre) when measured. */
+export interface ScintLike {
+  schema: 'sightline/scint@1';
+  source: string;
+  /** exact MJD text; null when the dynamic spectrum gave none (then it matches nothing) */
+  mjd: string | null;
+  status: string;
+  ref_freq_mhz: number;
+  dnu_d_mhz: number | null;
+  dnu_d_err_mhz: number | null;
+  dt_d_s: number | null;
+  dt_d_err_s: number | null;
+  tau_us: number | null;
+  tau_err_us: number | null;
+}
+
+export type ComparableResult = DmFitLike | DmSeriesLike | ScatterFitLike | ScintLike;
 
 export interface MatchOptions {
   /** visits / points match when |ΔMJD| is below this (days); default 0.5 */
@@ -95,6 +111,7 @@ const KIND_BY_SCHEMA: Record<string, ComparableKind> = {
   'sightline/dm-fit@1': 'dm-fit',
   'sightline/dm-series@1': 'dm-series',
   'sightline/scatter-fit@1': 'scatter-fit',
+  'sightline/scint@1': 'scint',
 };
 
 /** The kind of a result from its schema tag; throws CompareError('unsupported_kind') otherwise. */
@@ -104,7 +121,7 @@ export function comparableKindOf(result: { schema?: unknown }): ComparableKind {
   if (!kind) {
     throw new CompareError(
       'unsupported_kind',
-      `cannot compare results of schema "${tag || '(none)'}": only dm-fit, dm-series and scatter-fit`,
+      `cannot compare results of schema "${tag || '(none)'}": only dm-fit, dm-series, scatter-fit and scint`,
     );
   }
   return kind;
@@ -196,6 +213,7 @@ export function entitiesOf(result: ComparableResult): Entity[] {
       values: { dm: { value: p.dm, err: p.dm_err } },
     }));
   }
+  if (kind === 'scint') return [scintEntity(result as ScintLike)];
   const scatter = result as ScatterFitLike;
   const out: Entity[] = scatter.bands.map((b) => ({
     label: `${scatter.source} ${formatFreq(b.freq_mhz)} MHz`,
@@ -224,6 +242,33 @@ export function entitiesOf(result: ComparableResult): Entity[] {
     });
   }
   return out;
+}
+
+/**
+ * A scint visit. Its MJD is the matched coordinate (two analyses of the same visit — another
+ * RFI fence, a remembered mask — match; different visits do not). Δν_d, Δt_d and τ are compared
+ * only at the same band centre, since all three scale steeply with frequency.
+ */
+function scintEntity(r: ScintLike): Entity {
+  const mjd = r.mjd === null ? NaN : Number(r.mjd);
+  const values: Entity['values'] = {};
+  const fitted = r.status === 'measured';
+  if (fitted) {
+    if (r.dnu_d_mhz !== null) values.dnu_d_mhz = { value: r.dnu_d_mhz, err: r.dnu_d_err_mhz };
+    if (r.dt_d_s !== null) values.dt_d_s = { value: r.dt_d_s, err: r.dt_d_err_s };
+    if (r.tau_us !== null) values.tau_ref_us = { value: r.tau_us, err: r.tau_err_us };
+  }
+  return {
+    label: `${r.source} MJD ${Number.isFinite(mjd) ? formatMjd(mjd) : '(none)'}`,
+    source: r.source,
+    group: `scint\u0000${r.source}`,
+    coord: mjd,
+    ...(Number.isFinite(mjd) ? { mjd } : {}),
+    fitted,
+    status: r.status,
+    refFreqMhz: r.ref_freq_mhz,
+    values,
+  };
 }
 
 // ---- one-to-one matching -----------------------------------------------------------------------
@@ -317,12 +362,12 @@ export function incomparable(q: ComparedQuantity, a: Entity, b: Entity): string 
     return `DM is ${a.dmKind} in one and ${b.dmKind} in the other`;
   }
   if (
-    q === 'tau_ref_us' &&
+    (q === 'tau_ref_us' || q === 'dnu_d_mhz' || q === 'dt_d_s') &&
     a.refFreqMhz !== undefined &&
     b.refFreqMhz !== undefined &&
     Math.abs(a.refFreqMhz - b.refFreqMhz) > 1e-9 * Math.max(a.refFreqMhz, b.refFreqMhz)
   ) {
-    return `τ reference frequencies differ (${formatFreq(a.refFreqMhz)} vs ${formatFreq(b.refFreqMhz)} MHz)`;
+    return `${q === 'tau_ref_us' ? 'τ reference' : 'band centre'} frequencies differ (${formatFreq(a.refFreqMhz)} vs ${formatFreq(b.refFreqMhz)} MHz)`;
   }
   return null;
 }
@@ -334,14 +379,26 @@ const QUANTITY_LABEL: Record<ComparedQuantity, string> = {
   tau_ref_us: 'τ_ref',
   tau_us: 'τ',
   alpha: 'α',
+  dnu_d_mhz: 'Δν_d',
+  dt_d_s: 'Δt_d',
 };
 const QUANTITY_UNIT: Record<ComparedQuantity, string> = {
   dm: '',
   tau_ref_us: ' µs',
   tau_us: ' µs',
   alpha: '',
+  dnu_d_mhz: ' MHz',
+  dt_d_s: ' s',
 };
-const QUANTITY_ORDER: ComparedQuantity[] = ['dm', 'tau_ref_us', 'tau_us', 'alpha'];
+/** the order quantities of one entity are listed in (compare and the regression check) */
+export const QUANTITY_ORDER: ComparedQuantity[] = [
+  'dm',
+  'dnu_d_mhz',
+  'dt_d_s',
+  'tau_ref_us',
+  'tau_us',
+  'alpha',
+];
 
 function signed(x: number, text: string): string {
   return (x < 0 ? '-' : '+') + text;

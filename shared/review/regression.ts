@@ -1,5 +1,6 @@
-import type { ComparedQuantity, RegressionItem, RegressionResult } from '../schemas/review.js';
+import type { RegressionItem, RegressionResult } from '../schemas/review.js';
 import {
+  QUANTITY_ORDER,
   CompareError,
   comparableKindOf,
   entitiesOf,
@@ -21,8 +22,6 @@ export interface RegressionOptions extends MatchOptions {
   /** check only this source's visits / points / bands (a result may hold several pulsars) */
   source?: string;
 }
-
-const QUANTITY_ORDER: ComparedQuantity[] = ['dm', 'tau_ref_us', 'tau_us', 'alpha'];
 
 /** The sources a result covers, in order of first appearance. */
 export function sourcesOf(result: ComparableResult): string[] {

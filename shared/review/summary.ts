@@ -2,9 +2,10 @@
 import type { DmFitResult } from '../schemas/dm-fit.js';
 import type { DmSeriesResult } from '../schemas/dm-series.js';
 import type { ScatterFitResult } from '../schemas/scatter-fit.js';
+import type { ScintResult } from '../schemas/scint.js';
 
-export type RunResult = DmFitResult | DmSeriesResult | ScatterFitResult;
-export type RunKind = 'dm-fit' | 'dm-series' | 'scatter-fit';
+export type RunResult = DmFitResult | DmSeriesResult | ScatterFitResult | ScintResult;
+export type RunKind = 'dm-fit' | 'dm-series' | 'scatter-fit' | 'scint';
 
 /** "sightline/dm-fit@1" → "dm-fit" */
 export function kindOf(result: { schema: string }): RunKind {
@@ -14,7 +15,8 @@ export function kindOf(result: { schema: string }): RunKind {
 /** The pulsars a result is about, sorted. */
 export function sourcesOf(result: RunResult): string[] {
   let names: string[];
-  if (result.schema === 'sightline/scatter-fit@1') names = [result.source];
+  if (result.schema === 'sightline/scatter-fit@1' || result.schema === 'sightline/scint@1')
+    names = [result.source];
   else if (result.schema === 'sightline/dm-fit@1') names = result.visits.map((v) => v.source);
   else names = result.points.map((p) => p.source);
   return [...new Set(names)].sort();
@@ -32,6 +34,7 @@ const range = (xs: number[]): [number, number] | null =>
 export type RunSummary = Record<string, number | string | boolean | null | [number, number]>;
 
 export function summarise(result: RunResult): RunSummary {
+  if (result.schema === 'sightline/scint@1') return scintSummary(result);
   if (result.schema === 'sightline/dm-fit@1') {
     const fitted = result.visits.filter((v) => v.status === 'fitted' && v.dm !== null);
     return {
@@ -63,5 +66,34 @@ export function summarise(result: RunResult): RunSummary {
     alpha_err: pl?.alpha_err ?? null,
     tau_ref_us: pl?.tau_ref_us ?? null,
     ref_freq_mhz: pl?.ref_freq_mhz ?? null,
+  };
+}
+
+/**
+ * A scint run: the visit, the receiver, the status, Δν_d, Δt_d and τ with their errors (or, when
+ * the scintles are unresolved, the Δν_d upper and τ lower limits), and the interference flags.
+ */
+function scintSummary(r: ScintResult): RunSummary {
+  const count = (kind: string) => r.rfi.channels.filter((c) => c.kind === kind).length;
+  return {
+    mjd: r.mjd,
+    receiver: r.receiver,
+    status: r.status,
+    freq_range_mhz: [r.freq_min_mhz, r.freq_max_mhz],
+    channel_mhz: r.channel_mhz,
+    ref_freq_mhz: r.ref_freq_mhz,
+    dnu_d_mhz: r.dnu_d_mhz,
+    dnu_d_err_mhz: r.dnu_d_err_mhz,
+    dnu_d_upper_mhz: r.dnu_d_upper_mhz,
+    dt_d_s: r.dt_d_s,
+    dt_d_err_s: r.dt_d_err_s,
+    tau_us: r.tau_us,
+    tau_err_us: r.tau_err_us,
+    tau_lower_us: r.tau_lower_us,
+    flagged_fraction: r.rfi.flagged_fraction,
+    n_channels_flagged: r.rfi.channels.length,
+    n_persistent_channels: count('persistent'),
+    n_given_channels: count('given'),
+    n_warnings: r.warnings.length,
   };
 }

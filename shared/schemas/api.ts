@@ -11,7 +11,7 @@ export const RUN_STATE_NAMES = [
   'returned',
   'superseded',
 ] as const;
-export const RUN_KINDS = ['dm-fit', 'dm-series', 'scatter-fit'] as const;
+export const RUN_KINDS = ['dm-fit', 'dm-series', 'scatter-fit', 'scint'] as const;
 
 /** A result a correction run can hold, told apart by its schema tag (same as a comparable one). */
 export const runResultSchema = comparableResultSchema;
@@ -103,6 +103,42 @@ export const listQuery = z.object({
   page: z.coerce.number().int().positive().default(1),
   page_size: z.coerce.number().int().min(1).max(500).default(100),
 });
+
+/** A receiver name in `GET /api/rfi/:receiver` (the `receiver` of a dynamic spectrum's sidecar). */
+export const receiverParam = z.string().trim().min(1, 'name a receiver').max(64);
+
+/**
+ * `GET /api/rfi/:receiver`: the interference channels remembered for a receiver from its scint
+ * runs, and the mask (`channels_mhz`) that `sightline scint analyse --mask-from-server` starts
+ * from. The rule that makes a channel persistent is in shared/review/rfi-memory.ts.
+ */
+export const rfiMemorySchema = z.object({
+  receiver: z.string(),
+  /** the receiver's scint runs (every state) */
+  runs: z.number().int().nonnegative(),
+  /** the rule, in words */
+  rule: z.string(),
+  /** the remembered mask: persistent channels' frequencies, ascending */
+  channels_mhz: z.array(z.number()),
+  /** every channel any of these runs flagged, ascending in frequency */
+  channels: z.array(
+    z.object({
+      freq_mhz: z.number(),
+      /** runs that flagged it persistent (beyond the fences in both halves of the visit) */
+      persistent_runs: z.number().int().nonnegative(),
+      /** runs that flagged it from the data (persistent, intermittent or dead) */
+      flagged_runs: z.number().int().nonnegative(),
+      /** runs that were given it in a starting mask (these did not test it) */
+      given_runs: z.number().int().nonnegative(),
+      /** runs whose band holds it and that tested it (were not given it) */
+      tested_runs: z.number().int().nonnegative(),
+      /** persistent_runs / tested_runs (0 when no run tested it) */
+      share: z.number().min(0).max(1),
+      persistent: z.boolean(),
+    }),
+  ),
+});
+export type RfiMemory = z.infer<typeof rfiMemorySchema>;
 
 export type CreateRunBody = z.infer<typeof createRunBody>;
 export type ReviewBody = z.infer<typeof reviewBody>;

@@ -2,14 +2,26 @@ import { z } from 'zod';
 import { dmFitResultSchema } from './dm-fit.js';
 import { dmSeriesResultSchema } from './dm-series.js';
 import { scatterFitResultSchema } from './scatter-fit.js';
+import { scintResultSchema } from './scint.js';
 
 /** The result kinds that can be compared run against run and checked against a baseline. */
-export const COMPARABLE_KINDS = ['dm-fit', 'dm-series', 'scatter-fit'] as const;
+export const COMPARABLE_KINDS = ['dm-fit', 'dm-series', 'scatter-fit', 'scint'] as const;
 export const comparableKindSchema = z.enum(COMPARABLE_KINDS);
 export type ComparableKind = z.infer<typeof comparableKindSchema>;
 
-/** Quantities compared: DM per visit or point, τ at the reference frequency, τ per band, α. */
-export const comparedQuantitySchema = z.enum(['dm', 'tau_ref_us', 'tau_us', 'alpha']);
+/**
+ * Quantities compared: DM per visit or point, τ at the reference frequency (a chromatic fit's,
+ * a power law's, or τ from the scintle bandwidth at the band centre), τ per band, α, and a
+ * visit's decorrelation bandwidth and scintillation time.
+ */
+export const comparedQuantitySchema = z.enum([
+  'dm',
+  'tau_ref_us',
+  'tau_us',
+  'alpha',
+  'dnu_d_mhz',
+  'dt_d_s',
+]);
 export type ComparedQuantity = z.infer<typeof comparedQuantitySchema>;
 
 /** Any result JSON that compare and baseline check accept, told apart by its schema tag. */
@@ -17,6 +29,7 @@ export const comparableResultSchema = z.discriminatedUnion('schema', [
   dmFitResultSchema,
   dmSeriesResultSchema,
   scatterFitResultSchema,
+  scintResultSchema,
 ]);
 export type ComparableResultJson = z.infer<typeof comparableResultSchema>;
 
@@ -28,7 +41,7 @@ export const compareItemSchema = z.object({
   /** stable label of the matched visit, point, band or power law ("SBP-B MJD 60214.3") */
   key: z.string(),
   source: z.string(),
-  /** visit epoch (run A's), for dm-fit and dm-series items */
+  /** visit epoch (run A's), for dm-fit, dm-series and scint items */
   mjd: num.optional(),
   /** band centre (run A's), for scatter-fit band items */
   freq_mhz: num.optional(),

@@ -96,6 +96,13 @@ export function analyseDynspec(ds: DynSpec, opts: ScintOptions): ScintAnalysis {
   let dtD: number | null = null;
   let dtDErr: number | null = null;
   let nScintles: number | null = null;
+  // a frequency cut with no significant scintle structure, or narrower than a channel, is no
+  // measurement: the fitted amplitude must stand 3σ above the scatter of the cut about the fit
+  if (freqCut.ok) {
+    const resid = freqCut.acf.map((v, i) => v - freqCut.model[i]);
+    const rms = Math.sqrt(resid.reduce((s, v) => s + v * v, 0) / Math.max(1, resid.length - 3));
+    if (!(freqCut.amplitude > 3 * rms) || freqCut.width < ds.dfMhz) freqCut.ok = false;
+  }
   if (freqCut.ok && timeCut.ok) {
     dnuD = freqCut.width;
     dtD = timeCut.width;
@@ -118,13 +125,12 @@ export function analyseDynspec(ds: DynSpec, opts: ScintOptions): ScintAnalysis {
         'Δt_d is more than a third of the observation: few scintles, a poorly measured width',
       );
   } else {
-    if (!freqCut.ok) warnings.push('the frequency cut of the ACF could not be fitted');
+    if (!freqCut.ok) warnings.push('the frequency cut of the ACF shows no measurable scintles');
     if (!timeCut.ok) warnings.push('the time cut of the ACF could not be fitted');
   }
-  // no correlation between neighbouring channels: the scintles are narrower than a channel
-  // (or washed out), so only limits can be given
-  const lag1 = acfAt(acf, 1, 0);
-  const unresolved = !freqCut.ok && !(lag1 > 0.1 * Math.max(freqCut.zeroLag, 0));
+  // no significant structure across channels (or narrower than one): the scintles are
+  // narrower than a channel, or washed out, so only limits can be given
+  const unresolved = !freqCut.ok;
   let status: ScintAnalysis['status'] = dnuD !== null ? 'measured' : 'failed';
   let dnuDUpper: number | null = null;
   let tauLowerUs: number | null = null;
@@ -133,7 +139,7 @@ export function analyseDynspec(ds: DynSpec, opts: ScintOptions): ScintAnalysis {
     dnuDUpper = ds.dfMhz;
     tauLowerUs = tauFromBandwidthUs(ds.dfMhz, opts.c1);
     warnings.push(
-      `no scintle structure across channels: Δν_d is below the channel width (${ds.dfMhz.toPrecision(3)} MHz) or the scintles are washed out, so τ > ${tauLowerUs.toPrecision(3)} µs`,
+      `no scintle structure resolved across channels: Δν_d is below the channel width (${ds.dfMhz.toPrecision(3)} MHz) or the scintles are washed out, so τ > ${tauLowerUs.toPrecision(3)} µs`,
     );
   }
   const tauUs = dnuD === null ? null : tauFromBandwidthUs(dnuD, opts.c1);

@@ -432,6 +432,13 @@ describe.each(ENGINES)('roles × routes on %s', (engine) => {
       ok: 200,
       make: () => ({ method: 'get', path: `/api/compare?a=${runId}&b=${otherRunId}` }),
     },
+    {
+      // a receiver's remembered interference channels (server/routes/rfi.ts)
+      route: 'GET /api/rfi/:receiver',
+      may: MAY.read,
+      ok: 200,
+      make: () => ({ method: 'get', path: '/api/rfi/mid' }),
+    },
 
     // ── uploads and analyses ──
     {

@@ -88,14 +88,10 @@ describe('sightline scint analyse', () => {
     expect(t.stdout).toMatch(/Δν_d \(MHz\)/);
     const c = sightline(['scint', 'analyse', visit, '--format', 'csv', '--quiet']);
     const [head, row, extra] = c.stdout.trim().split('\n');
-    expect(head.split(',').slice(0, 6)).toEqual([
-      'source',
-      'mjd',
-      'receiver',
-      'ref_freq_mhz',
-      'status',
-      'flagged_fraction',
-    ]);
+    // the review app's CSV export columns (shared/review/rows.ts)
+    expect(head.split(',').slice(0, 4)).toEqual(['source', 'mjd', 'receiver', 'status']);
+    expect(head.split(',')).toContain('dnu_d_mhz');
+    expect(head.split(',')).toContain('tau_lower_us');
     expect(row.startsWith('SBP-E,60860.312500,mid,')).toBe(true);
     expect(extra).toBeUndefined();
   });

@@ -3,7 +3,7 @@
 // viewer reads it, two runs are compared, the admin makes and revokes a token, and an expired
 // session comes back where it was. Every screen is photographed (dist/e2e-screenshots/) and
 // checked with axe-core: no violation rated serious or critical.
-import { readFileSync } from 'node:fs';
+import { readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
@@ -21,6 +21,7 @@ import {
   step,
   type ReviewWorld,
 } from './helpers.js';
+import { sightlineAsync, tempDir } from '../helpers/cli.js';
 
 const ANALYST = 'ana@saltbush.test';
 const LEAD = 'lead@saltbush.test';
@@ -381,6 +382,110 @@ describe.skipIf(!chromiumAvailable)('the review app in Chromium', () => {
         );
       } finally {
         await context.close();
+      }
+    },
+    FLOW_MS,
+  );
+  it(
+    'f. scintillation runs: the three pictures, the limits, and τ by two routes',
+    async () => {
+      const flow = 'f-scint';
+      const { dir, cleanup } = tempDir('sightline-e2e-scint-');
+      const { context, page } = await signedIn(ANALYST, '/');
+      try {
+        // one visit of each pulsar from the demo: SBP-B alone, SBP-F with a scattering fit of
+        // the same visit (its dynamic spectrum and its profiles share the file name)
+        const first = (sub: string, pulsar: string) =>
+          readdirSync(join(world!.demoDir, sub, pulsar))
+            .filter((f) => f.endsWith('.npy'))
+            .sort()[0];
+        const results = await step('analyse two dynamic spectra and one profile set', async () => {
+          const run = async (args: string[], out: string) => {
+            const r = await sightlineAsync([...args, '--json', '--quiet', '--out', join(dir, out)]);
+            expect(r.code, `sightline ${args.join(' ')}: ${r.stderr}`).toBe(0);
+            return JSON.parse(readFileSync(join(dir, out), 'utf8')) as unknown;
+          };
+          const visitF = first('dynspec', 'SBP-F');
+          return {
+            b: await run(
+              [
+                'scint',
+                'analyse',
+                join(world!.demoDir, 'dynspec/SBP-B', first('dynspec', 'SBP-B')),
+              ],
+              'B.scint.json',
+            ),
+            f: await run(
+              ['scint', 'analyse', join(world!.demoDir, 'dynspec/SBP-F', visitF)],
+              'F.scint.json',
+            ),
+            fTails: await run(
+              ['scatter', 'fit', join(world!.demoDir, 'profiles/SBP-F', visitF)],
+              'F.scatter.json',
+            ),
+          };
+        });
+        const ids = await step('push them as the analyst, through the API', async () => {
+          const push = (result: unknown) =>
+            page.evaluate(
+              async (body) => {
+                const res = await fetch('/api/runs', {
+                  method: 'POST',
+                  headers: { 'Content-Type': 'application/json' },
+                  body: JSON.stringify(body),
+                });
+                return { status: res.status, id: ((await res.json()) as { id?: string }).id };
+              },
+              { result },
+            );
+          const out: Record<string, string> = {};
+          for (const [k, result] of Object.entries(results)) {
+            const r = await push(result);
+            expect(r.status, `push ${k}`).toBe(201);
+            out[k] = r.id!;
+          }
+          return out;
+        });
+        await step('scint run page of SBP-B', async () => {
+          await page.goto(`${world!.url}/runs/${ids.b}`);
+          await runHeading(page, 'SBP-B', 'scintillation').waitFor();
+          for (const name of ['Dynamic spectrum', 'Autocorrelation', 'Secondary spectrum'])
+            await page.getByRole('figure', { name, exact: true }).locator('svg').first().waitFor();
+          await page.getByRole('heading', { name: 'Interference' }).waitFor();
+          // no scattering fit of SBP-B: the page says how to get one
+          const routes = page.getByRole('region', { name: 'Scattering by two routes' });
+          await routes.getByText(/No scattering fit of SBP-B within 1 day/).waitFor();
+          await look(page, flow, 'run-b');
+        });
+        await step('the hatching of flagged blocks switches with the keyboard', async () => {
+          const box = page.getByRole('checkbox', { name: /Hatch flagged blocks/ });
+          if ((await box.count()) === 0) return; // a visit without interference has no switch
+          await box.focus();
+          await page.keyboard.press('Space');
+          expect(await box.isChecked()).toBe(false);
+        });
+        await step('scint run page of SBP-F, with τ from the tails of the same visit', async () => {
+          await page.goto(`${world!.url}/runs/${ids.f}`);
+          await runHeading(page, 'SBP-F', 'scintillation').waitFor();
+          const routes = page.getByRole('region', { name: 'Scattering by two routes' });
+          const link = routes.getByRole('link', { name: /SBP-F · scattering, MJD/ });
+          await link.waitFor();
+          expect(await link.getAttribute('href')).toBe(`/runs/${ids.fTails}`);
+          await routes.getByText(/From the pulse tails, carried to/).waitFor();
+          await look(page, flow, 'run-f');
+        });
+        await step('the runs table names the kind', async () => {
+          await page.goto(`${world!.url}/runs?kind=scint`);
+          const table = page.getByRole('table');
+          await table.getByRole('cell', { name: 'scintillation', exact: true }).first().waitFor();
+          expect(
+            await table.getByRole('cell', { name: 'scintillation', exact: true }).count(),
+          ).toBe(2);
+          await look(page, flow, 'runs');
+        });
+      } finally {
+        await context.close();
+        cleanup();
       }
     },
     FLOW_MS,

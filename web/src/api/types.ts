@@ -3,7 +3,7 @@ import type { RunResultJson } from '../../../shared/schemas/api';
 
 export type Role = 'viewer' | 'analyst' | 'lead' | 'admin';
 export type RunState = 'draft' | 'in_review' | 'approved' | 'returned' | 'superseded';
-export type RunKind = 'dm-fit' | 'dm-series' | 'scatter-fit';
+export type RunKind = 'dm-fit' | 'dm-series' | 'scatter-fit' | 'scint';
 
 export interface Me {
   id: string;

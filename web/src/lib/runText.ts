@@ -20,12 +20,16 @@ export const QUANTITY_LABEL: Record<string, string> = {
   tau_ref_us: 'τ at ref. freq.',
   tau_us: 'τ',
   alpha: 'α',
+  dnu_d_mhz: 'Δν_d',
+  dt_d_s: 'Δt_d',
 };
 export const QUANTITY_UNIT: Record<string, string> = {
   dm: 'pc cm⁻³',
   tau_ref_us: 'µs',
   tau_us: 'µs',
   alpha: '',
+  dnu_d_mhz: 'MHz',
+  dt_d_s: 's',
 };
 
 const n = (v: unknown): number | null => (typeof v === 'number' && Number.isFinite(v) ? v : null);
@@ -53,6 +57,22 @@ export function summaryLine(r: Pick<RunSummaryView, 'kind' | 'summary'>): string
     const span = mjdSpan(s.mjd_range);
     if (span) parts.push(span);
     if (s.smoothed === true) parts.push('smoothed');
+    return parts.join(' · ');
+  }
+  if (r.kind === 'scint') {
+    const at = n(s.ref_freq_mhz);
+    const where = at !== null ? ` at ${Number(at.toFixed(2))} MHz` : '';
+    const dnu = n(s.dnu_d_mhz);
+    const tau = n(s.tau_us);
+    const parts =
+      s.status === 'measured' && dnu !== null
+        ? [`Δν_d ${sig(dnu, 3)} MHz`, ...(tau !== null ? [`τ ${sig(tau, 3)} µs${where}`] : [])]
+        : s.status === 'unresolved'
+          ? [
+              `unresolved: Δν_d < ${sig(n(s.dnu_d_upper_mhz), 3)} MHz, τ > ${sig(n(s.tau_lower_us), 3)} µs${where}`,
+            ]
+          : ['scintles not measured'];
+    if (typeof s.mjd === 'string') parts.push(`MJD ${Number(s.mjd).toFixed(1)}`);
     return parts.join(' · ');
   }
   const parts = [`${n(s.n_fitted) ?? '?'}/${n(s.n_bands) ?? '?'} bands fitted`];

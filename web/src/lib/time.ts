@@ -10,4 +10,5 @@ export const KIND_LABEL: Record<string, string> = {
   'dm-fit': 'DM per visit',
   'dm-series': 'DM series',
   'scatter-fit': 'scattering',
+  scint: 'scintillation',
 };

@@ -10,10 +10,12 @@ import { ReviewHistory } from '../components/run/ReviewHistory';
 import { ReviewPanel } from '../components/run/ReviewPanel';
 import { RunHeader } from '../components/run/RunHeader';
 import { ScatterFitView } from '../components/run/ScatterFitView';
+import { ScintView } from '../components/run/ScintView';
+import type { ScintResult } from '../../../shared/schemas/scint';
 import { PanelHeading, ProvenancePanel } from '../components/run/SummaryPanel';
 
 function Result({ run }: { run: RunDetail }) {
-  const r = run.result;
+  const r = run.result as RunDetail['result'] | ScintResult;
   switch (r.schema) {
     case 'sightline/dm-fit@1':
       return <DmFitView result={r} />;
@@ -21,6 +23,8 @@ function Result({ run }: { run: RunDetail }) {
       return <DmSeriesView result={r} />;
     case 'sightline/scatter-fit@1':
       return <ScatterFitView result={r} />;
+    case 'sightline/scint@1':
+      return <ScintView result={r} pulsar={run.pulsar} />;
     default:
       return (
         <p className="text-sm text-ink-soft">
