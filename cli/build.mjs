@@ -66,3 +66,12 @@ await build({
   splitting: true,
   chunkNames: 'analysis-worker-chunks/[name]-[hash]',
 });
+// The batch worker (cli/run/batch.ts loads it from dist/cli/): its own bundle, like the analysis
+// worker, so worker threads load plain JavaScript.
+await build({
+  ...common,
+  entryPoints: { 'batch-worker': 'cli/run/batch-worker.ts' },
+  outdir: 'dist/cli',
+  splitting: true,
+  chunkNames: 'batch-worker-chunks/[name]-[hash]',
+});

@@ -10,6 +10,7 @@ import { scatterCommand } from './commands/scatter.js';
 import { templateCommand } from './commands/template.js';
 import { scintCommand } from './commands/scint.js';
 import { baselineCommand, runsCommand, serveCommand } from './commands/review.js';
+import { batchCommand } from './commands/batch.js';
 
 export function buildProgram(): Command {
   const program = new Command('sightline')
@@ -28,6 +29,7 @@ export function buildProgram(): Command {
     templateCommand(),
     scatterCommand(),
     scintCommand(),
+    batchCommand(),
     runsCommand(),
     baselineCommand(),
     serveCommand(),

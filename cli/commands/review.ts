@@ -1,5 +1,6 @@
 import { Command, Option } from 'commander';
 import { numberOption, positive, withCommon } from '../common.js';
+import { usageError } from '../errors.js';
 import type { BaselineCheckOptions, PushOptions } from '../run/review.js';
 import type { ServeOptions } from '../run/serve.js';
 
@@ -13,14 +14,18 @@ export function runsCommand(): Command {
     withCommon(
       new Command('push')
         .argument(
-          '<result...>',
+          '[result...]',
           'result JSON files written by sightline (dm fit, dm series, scatter fit, scint analyse)',
         )
         .description(
           'send results to the review app as correction runs; prints each run id and URL',
         )
         .option('--submit', 'submit each run for review at once')
-        .option('--title <text>', 'a title for the runs'),
+        .option('--title <text>', 'a title for the runs')
+        .option(
+          '--pending <dir>',
+          'send the results a `batch --push` left pending in DIR/.pending, removing each marker once accepted',
+        ),
       { constant: false },
     ),
   )
@@ -28,9 +33,14 @@ export function runsCommand(): Command {
       'after',
       '\nEvery file is checked before any is sent. Exit 2 for an invalid file or refused token,\n3 when the server cannot be reached.\n\nExample:\n  SIGHTLINE_SERVER=http://127.0.0.1:5180 SIGHTLINE_TOKEN=sl_… \\\n    sightline runs push fits/SBP-B.fit.json --submit',
     )
-    .action(async (files: string[], o: PushOptions) =>
-      (await import('../run/review.js')).runPush(files, o),
-    );
+    .action(async (files: string[], o: PushOptions & { pending?: string }) => {
+      if (o.pending) {
+        if (files.length) throw usageError('give result files or --pending DIR, not both');
+        return (await import('../run/batch.js')).runPushPending(o.pending, o);
+      }
+      if (!files.length) throw usageError('give result files to push (or --pending DIR)');
+      return (await import('../run/review.js')).runPush(files, o);
+    });
   return new Command('runs').description('correction runs on the review server').addCommand(push);
 }
 
