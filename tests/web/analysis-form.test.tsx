@@ -121,7 +121,7 @@ describe('new analysis form', () => {
     nextKind = 'profiles';
     await user.upload(screen.getByLabelText('Input file'), csv());
     await waitFor(() => expect(options()).toEqual(['scatter-fit']));
-    expect(screen.getByLabelText('Model')).toBeTruthy();
+    expect(await screen.findByLabelText('Model')).toBeTruthy();
     expect(screen.getByText('ab'.repeat(32))).toBeTruthy();
     expect(sent[0].get('file')).toBeInstanceOf(File);
     // α of a scattering fit: fitted, or held at a number the analyst types
@@ -136,7 +136,8 @@ describe('new analysis form', () => {
     nextKind = 'result';
     await user.upload(screen.getByLabelText('Input file'), csv());
     await waitFor(() => expect(options()).toEqual(['dm-series']));
-    expect(screen.getByLabelText('Smoothing')).toBeTruthy();
+    // the form switches to the only analysis left on its next render: wait for its fields
+    expect(await screen.findByLabelText('Smoothing')).toBeTruthy();
 
     nextKind = 'toas';
     await user.upload(screen.getByLabelText('Input file'), csv());
