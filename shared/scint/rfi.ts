@@ -54,7 +54,6 @@ export interface RfiResult {
   noise: Float64Array;
 }
 
-const WINDOW = 5;
 /** sub-integrations in the running median along time for single-pixel flags */
 const TIME_WINDOW = 9;
 
@@ -67,7 +66,7 @@ function runningMedian(
   offset: number,
   out: Float64Array,
   buf: Float64Array,
-  window = WINDOW,
+  window: number,
 ): void {
   const half = window >> 1;
   for (let i = 0; i < n; i++) {
@@ -102,20 +101,6 @@ function runningMedian(
       out[k] = m % 2 ? buf[m >> 1] : (buf[m / 2 - 1] + buf[m / 2]) / 2;
     }
   }
-}
-
-/** The separable running-median model: along time, then along frequency. */
-export function smoothModel(ds: DynSpec, mask: Uint8Array): Float64Array {
-  const { nchan, nsub, data } = ds;
-  const tmp = new Float64Array(nchan * nsub);
-  const out = new Float64Array(nchan * nsub);
-  const buf = new Float64Array(WINDOW);
-  for (let c = 0; c < nchan; c++) runningMedian(data, mask, nsub, 1, c * nsub, tmp, buf);
-  const tmpMask = Uint8Array.from(tmp, (v) => (Number.isNaN(v) ? 1 : 0));
-  for (let t = 0; t < nsub; t++) runningMedian(tmp, tmpMask, nchan, nsub, t, out, buf);
-  // pixels with no unflagged neighbour at all: the channel's median, else 0
-  for (let i = 0; i < out.length; i++) if (Number.isNaN(out[i])) out[i] = 0;
-  return out;
 }
 
 function quartiles(v: number[]): { q1: number; q3: number } {

@@ -210,6 +210,18 @@ export function flaggedRects(
   }));
 }
 
+/** A heatmap's cells as rectangles coloured by the map (rect: raster needs a canvas). */
+function heatCells(cells: Cell[], map: ColourMap) {
+  return ObsPlot.rect(cells, {
+    x1: 'x1',
+    x2: 'x2',
+    y1: 'y1',
+    y2: 'y2',
+    fill: (c: Cell) => map.colour(c.v),
+    shapeRendering: 'crispEdges',
+  });
+}
+
 const sorted = (e: number[]): [number, number] => [
   Math.min(e[0], e[e.length - 1]),
   Math.max(e[0], e[e.length - 1]),
@@ -356,14 +368,7 @@ export function DynamicSpectrumFigure({ result }: { result: ScintResult }) {
               y: { label: 'Frequency (MHz)', domain: sorted(yEdges), tickFormat: plainTick },
               color: { type: 'identity' },
               marks: [
-                ObsPlot.rect(cells, {
-                  x1: 'x1',
-                  x2: 'x2',
-                  y1: 'y1',
-                  y2: 'y2',
-                  fill: (c: Cell) => map.colour(c.v),
-                  shapeRendering: 'crispEdges',
-                }),
+                heatCells(cells, map),
                 ...(showFlags && flags.length
                   ? [
                       () => hatchPattern(patternId),
@@ -611,14 +616,7 @@ export function AcfFigure({ result }: { result: ScintResult }) {
                 },
                 color: { type: 'identity' },
                 marks: [
-                  ObsPlot.rect(cells, {
-                    x1: 'x1',
-                    x2: 'x2',
-                    y1: 'y1',
-                    y2: 'y2',
-                    fill: (c: Cell) => map.colour(c.v),
-                    shapeRendering: 'crispEdges',
-                  }),
+                  heatCells(cells, map),
                   ellipse.length
                     ? ObsPlot.line(ellipse, {
                         x: 'x',
@@ -764,14 +762,7 @@ export function SecondarySpectrumFigure({ result }: { result: ScintResult }) {
               y: { label: 'Delay f_τ (µs)', domain: sorted(yEdges), tickFormat: plainTick },
               color: { type: 'identity' },
               marks: [
-                ObsPlot.rect(cells, {
-                  x1: 'x1',
-                  x2: 'x2',
-                  y1: 'y1',
-                  y2: 'y2',
-                  fill: (c: Cell) => map.colour(c.v),
-                  shapeRendering: 'crispEdges',
-                }),
+                heatCells(cells, map),
                 // the arc twice: a dark underlay and a light dashed line, visible on any colour
                 showArc && line.length
                   ? [
