@@ -41,6 +41,7 @@ const serverPackages = [
   'express-rate-limit',
   'xmlbuilder2',
   'proper-lockfile',
+  'pg-boss',
 ];
 await build({
   ...common,

@@ -9,7 +9,7 @@ import { demoCommand } from './commands/demo.js';
 import { scatterCommand } from './commands/scatter.js';
 import { templateCommand } from './commands/template.js';
 import { scintCommand } from './commands/scint.js';
-import { baselineCommand, runsCommand, serveCommand } from './commands/review.js';
+import { baselineCommand, runsCommand, serveCommand, workerCommand } from './commands/review.js';
 import { batchCommand } from './commands/batch.js';
 
 export function buildProgram(): Command {
@@ -33,6 +33,7 @@ export function buildProgram(): Command {
     runsCommand(),
     baselineCommand(),
     serveCommand(),
+    workerCommand(),
     demoCommand(),
   ])
     program.addCommand(c);

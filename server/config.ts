@@ -34,6 +34,7 @@ export function configFromEnv(flags: ServeFlags, env = process.env): StartOption
       ? Number(env.SIGHTLINE_TRUST_PROXY) || env.SIGHTLINE_TRUST_PROXY
       : undefined,
     analysisThreads: threads,
+    inProcessWorker: !/^(0|false|no|off)$/i.test(env.SIGHTLINE_IN_PROCESS_WORKER ?? ''),
     uploadBytes: uploadMb ? uploadMb * 1024 * 1024 : undefined,
     signInPerMinute: signIns && signIns > 0 ? signIns : undefined,
   };

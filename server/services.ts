@@ -10,6 +10,7 @@ import { user } from './db/schema.js';
 import { writeAudit } from './services/audit.js';
 import { eq } from 'drizzle-orm';
 import { createAnalysisPool } from './jobs/pool.js';
+import { openJobQueue, type JobQueue } from './jobs/queue.js';
 import { createAnalysisRunner } from './jobs/runner.js';
 import { startMailCatcher, type MailCatcher } from './mail/catcher.js';
 import { createMailer } from './mail/mailer.js';
@@ -34,6 +35,11 @@ export interface ServerConfig {
   signInPerMinute?: number;
   /** worker threads for server-side analyses */
   analysisThreads?: number;
+  /**
+   * Take analyses from the queue in this process (default true). With DATABASE_URL, `false`
+   * leaves them to `sightline worker` processes; the embedded database always runs its own.
+   */
+  inProcessWorker?: boolean;
   minPasswordLength?: number;
 }
 
@@ -57,8 +63,10 @@ export async function createServices(c: ServerConfig): Promise<RunningServices> 
   const logger = c.logger ?? pino({ level: c.logLevel ?? process.env.LOG_LEVEL ?? 'info' });
   const database = await openDatabase({ url: c.databaseUrl, dataDir });
   let catcher: MailCatcher | undefined;
+  let queue: JobQueue | undefined;
   try {
     await database.migrate();
+    queue = await openJobQueue(database, logger);
     const secret = c.authSecret ?? process.env.SIGHTLINE_AUTH_SECRET ?? persistentSecret(dataDir);
     const auth = createAuth({
       db: database.db,
@@ -89,11 +97,12 @@ export async function createServices(c: ServerConfig): Promise<RunningServices> 
       logger,
       target: c.smtpUrl ? redactSmtp(c.smtpUrl) : 'catcher (development: mail is kept, not sent)',
     });
-    const analyses = createAnalysisRunner(
-      () => services,
-      () => createAnalysisPool({ maxThreads: c.analysisThreads }),
+    const analyses = createAnalysisRunner({
+      context: () => services,
+      queue,
+      makePool: () => createAnalysisPool({ maxThreads: c.analysisThreads }),
       logger,
-    );
+    });
     const services: RunningServices = {
       database,
       db: database.db,
@@ -118,6 +127,7 @@ export async function createServices(c: ServerConfig): Promise<RunningServices> 
     };
     return services;
   } catch (err) {
+    await queue?.stop();
     await catcher?.close();
     await database.close();
     throw err;

@@ -3,6 +3,7 @@ import type { IncomingMessage, Server, ServerResponse } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { createApp } from './app.js';
 import { distDir } from './paths.js';
+import { defaultAnalysisThreads } from './jobs/pool.js';
 import { createServices, type RunningServices, type ServerConfig } from './services.js';
 
 export interface StartOptions extends Omit<ServerConfig, 'publicUrl'> {
@@ -56,7 +57,11 @@ export async function startServer(o: StartOptions): Promise<RunningServer> {
     services,
     trustProxy: o.trustProxy,
   });
-  await services.analyses.resume();
+  // the embedded database belongs to this process alone, so jobs it left running are orphans
+  const embedded = services.database.engine === 'pglite';
+  await services.analyses.resume({ orphansAreOurs: embedded });
+  if (embedded || o.inProcessWorker !== false)
+    await services.analyses.work(Math.max(1, o.analysisThreads ?? defaultAnalysisThreads()));
   let closing: Promise<void> | undefined;
   return {
     url,

@@ -3,6 +3,7 @@ import { numberOption, positive, withCommon } from '../common.js';
 import { usageError } from '../errors.js';
 import type { BaselineCheckOptions, PushOptions } from '../run/review.js';
 import type { ServeOptions } from '../run/serve.js';
+import type { WorkerOptions } from '../run/worker.js';
 
 const serverOptions = (c: Command) =>
   c
@@ -93,4 +94,29 @@ export function serveCommand(): Command {
       '\nEnvironment: DATABASE_URL (PostgreSQL server), SMTP_URL (mail relay; without it mail is\nkept in the app), SIGHTLINE_PUBLIC_URL, SIGHTLINE_TRUSTED_ORIGINS, SIGHTLINE_AUTH_SECRET,\nSIGHTLINE_TRUST_PROXY, SIGHTLINE_UPLOAD_MB, SIGHTLINE_ANALYSIS_THREADS, LOG_LEVEL.',
     )
     .action(async (o: ServeOptions) => (await import('../run/serve.js')).runServe(o));
+}
+
+export function workerCommand(): Command {
+  return new Command('worker')
+    .description(
+      "take server-side analyses from the review server's queue (needs DATABASE_URL: a PostgreSQL server)",
+    )
+    .addOption(
+      new Option('--threads <n>', 'analyses at a time (default: CPUs − 1, at least 1)').argParser(
+        numberOption('--threads', (v) =>
+          Number.isInteger(v) && v >= 1 ? undefined : 'must be a positive integer',
+        ),
+      ),
+    )
+    .option('--name <name>', 'worker name recorded on each job (default: <host>:<pid>)')
+    .option(
+      '--data-dir <dir>',
+      "the server's data directory, where uploads are read (default: $SIGHTLINE_DATA_DIR or ./data)",
+    )
+    .option('--quiet', 'log only warnings and errors')
+    .addHelpText(
+      'after',
+      "\nWorkers on any number of machines share one PostgreSQL server's queue; each analysis runs\nonce. The data directory must be the server's (a shared file system on other machines).\nThe embedded database belongs to the server process, which runs its own worker.\nStops on SIGINT/SIGTERM after the analyses it has started. Environment: DATABASE_URL,\nSIGHTLINE_DATA_DIR, SIGHTLINE_PUBLIC_URL (links in results), LOG_LEVEL.",
+    )
+    .action(async (o: WorkerOptions) => (await import('../run/worker.js')).runWorker(o));
 }

@@ -17,6 +17,12 @@ export interface Database {
   /** where the data lives: a folder for PGlite, the URL without its password for PostgreSQL */
   location: string;
   migrate(): Promise<void>;
+  /**
+   * Plain SQL on the same connection(s), for packages that bring their own SQL (the job queue):
+   * parameters go through the extended protocol; text without parameters may hold several
+   * statements and answers with the last one's rows.
+   */
+  executeSql(text: string, values?: unknown[]): Promise<{ rows: unknown[] }>;
   close(): Promise<void>;
 }
 
@@ -57,6 +63,7 @@ export async function openDatabase(options: DatabaseOptions): Promise<Database> 
       engine: 'postgres',
       location: redact(options.url),
       migrate: () => migrate(db as never, { migrationsFolder }),
+      executeSql: (text, values) => pool.query(text, values),
       close: () => pool.end(),
     };
   }
@@ -92,6 +99,11 @@ export async function openDatabase(options: DatabaseOptions): Promise<Database> 
       engine: 'pglite',
       location: folder,
       migrate: () => migrate(db as never, { migrationsFolder }),
+      async executeSql(text, values) {
+        if (values?.length) return client.query(text, values);
+        const results = await client.exec(text);
+        return results[results.length - 1] ?? { rows: [] };
+      },
       close: async () => {
         await client.close();
         await release();

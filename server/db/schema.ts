@@ -295,6 +295,10 @@ export const jobs = pgTable(
     createdAt: created(),
     startedAt: ts('started_at'),
     finishedAt: ts('finished_at'),
+    /** times a worker took the job up (1 unless a worker died running it) */
+    attempts: integer('attempts').notNull().default(0),
+    /** the worker that last took it up: "<host>:<pid>" or its --name */
+    worker: text('worker'),
   },
   (t) => [index('jobs_state_idx').on(t.state)],
 );

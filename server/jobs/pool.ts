@@ -48,9 +48,12 @@ export interface AnalysisPool {
   close(): Promise<void>;
 }
 
+/** One fewer than the CPUs, so requests keep one; at least 1. */
+export const defaultAnalysisThreads = () => Math.max(1, availableParallelism() - 1);
+
 /** Analyses off the request thread, on a piscina worker pool (design.md "worker pools"). */
 export function createAnalysisPool(options: AnalysisPoolOptions = {}): AnalysisPool {
-  const maxThreads = options.maxThreads ?? Math.max(1, availableParallelism() - 1);
+  const maxThreads = options.maxThreads ?? defaultAnalysisThreads();
   if (!Number.isInteger(maxThreads) || maxThreads < 1)
     throw new RangeError(`maxThreads must be a positive integer, not ${maxThreads}`);
   const filename = options.workerFile ?? defaultWorkerFile();

@@ -33,6 +33,8 @@ function jobView(j: typeof jobs.$inferSelect) {
     created_at: j.createdAt.toISOString(),
     started_at: j.startedAt?.toISOString() ?? null,
     finished_at: j.finishedAt?.toISOString() ?? null,
+    attempts: j.attempts,
+    worker: j.worker,
   };
 }
 
@@ -71,7 +73,20 @@ export function analysesRouter(s: Services): Router {
       );
       return made;
     });
-    s.analyses.start(job.id);
+    try {
+      await s.analyses.enqueue(job.id);
+    } catch (err) {
+      // never leave a job that no worker will take: it is marked failed, and the error is ours
+      await s.db
+        .update(jobs)
+        .set({
+          state: 'failed',
+          finishedAt: new Date(),
+          error: { code: 'failed', message: 'the analysis could not be queued' },
+        })
+        .where(eq(jobs.id, job.id));
+      throw err;
+    }
     res.status(202).location(`/api/analyses/${job.id}`).json(jobView(job));
   });
 

@@ -16,13 +16,22 @@ import { writeAudit } from './audit.js';
 type RunRow = typeof runs.$inferSelect;
 type Tx = Parameters<Parameters<Db['transaction']>[0]>[0];
 
-export function runUrl(s: Services, id: string): string {
+/**
+ * What creating a run needs: the database and the public URL for links, and the mailer when
+ * there is one in this process (a `sightline worker` has none: mail it queues waits in the
+ * outbox table for the server's mailer, which sends it on its timer).
+ */
+export type RunContext = Pick<Services, 'db' | 'publicUrl'> & {
+  mailer?: Pick<Services['mailer'], 'flush'>;
+};
+
+export function runUrl(s: Pick<Services, 'publicUrl'>, id: string): string {
   return `${s.publicUrl.replace(/\/$/, '')}/runs/${id}`;
 }
 
 /** The API's view of a run (snake_case, like every Sightline JSON). */
 export function runView(
-  s: Services,
+  s: Pick<Services, 'publicUrl'>,
   r: RunRow,
   extra: { pulsar: string | null; isReference?: boolean; creator: { email: string; name: string } },
 ) {
@@ -63,7 +72,7 @@ async function pulsarFor(tx: Tx, name: string) {
   return again;
 }
 
-async function leadsNotice(tx: Tx, s: Services, run: RunRow, pulsar: string, by: Actor) {
+async function leadsNotice(tx: Tx, s: RunContext, run: RunRow, pulsar: string, by: Actor) {
   const leads = await tx
     .select({ email: user.email })
     .from(user)
@@ -78,7 +87,7 @@ async function leadsNotice(tx: Tx, s: Services, run: RunRow, pulsar: string, by:
 }
 
 export async function createRun(
-  s: Services,
+  s: RunContext,
   actor: Actor,
   body: CreateRunBody,
   opts: { requestId?: string; uploadId?: string } = {},
@@ -138,7 +147,7 @@ export async function createRun(
     if (body.submit) await queueMail(tx, await leadsNotice(tx, s, run, pulsar.name, actor));
     return { run, pulsar };
   });
-  if (body.submit) void s.mailer.flush();
+  if (body.submit) void s.mailer?.flush();
   return runView(s, created.run, {
     pulsar: created.pulsar.name,
     isReference: created.pulsar.isReference,

@@ -36,6 +36,8 @@ export interface TestServer {
   url: string;
   running: RunningServer;
   dataDir: string;
+  /** the PostgreSQL database's URL (engine 'postgres' only) */
+  databaseUrl?: string;
   people: Record<string, Person>;
   /** an HTTP client bound to the app (supertest) */
   http: ReturnType<typeof request>;
@@ -66,7 +68,7 @@ export async function startTestServer(
     lead2: 'lead',
     admin: 'admin',
   },
-  options: { signInPerMinute?: number; uploadBytes?: number } = {},
+  options: { signInPerMinute?: number; uploadBytes?: number; inProcessWorker?: boolean } = {},
 ): Promise<TestServer> {
   const { dir, cleanup } = tempDir('sightline-api-');
   const webDir = join(dir, 'web');
@@ -84,6 +86,7 @@ export async function startTestServer(
     signInPerMinute: options.signInPerMinute ?? 1000,
     uploadBytes: options.uploadBytes,
     analysisThreads: 2,
+    inProcessWorker: options.inProcessWorker,
   });
   const s = running.services;
   const out: Record<string, Person> = {};
@@ -104,6 +107,7 @@ export async function startTestServer(
     url: running.url,
     running,
     dataDir: join(dir, 'data'),
+    databaseUrl: pg?.url,
     people: out,
     http: request(running.url),
     async close() {
