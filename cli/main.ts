@@ -11,6 +11,7 @@ import { templateCommand } from './commands/template.js';
 import { scintCommand } from './commands/scint.js';
 import { baselineCommand, runsCommand, serveCommand, workerCommand } from './commands/review.js';
 import { batchCommand } from './commands/batch.js';
+import { dbCommand } from './commands/db.js';
 
 export function buildProgram(): Command {
   const program = new Command('sightline')
@@ -34,6 +35,7 @@ export function buildProgram(): Command {
     baselineCommand(),
     serveCommand(),
     workerCommand(),
+    dbCommand(),
     demoCommand(),
   ])
     program.addCommand(c);

@@ -23,6 +23,8 @@ export interface Database {
    * statements and answers with the last one's rows.
    */
   executeSql(text: string, values?: unknown[]): Promise<{ rows: unknown[] }>;
+  /** the embedded database's own dump of its data directory (a tar file); PGlite only */
+  dumpDataDir?: () => Promise<Blob>;
   close(): Promise<void>;
 }
 
@@ -99,6 +101,7 @@ export async function openDatabase(options: DatabaseOptions): Promise<Database> 
       engine: 'pglite',
       location: folder,
       migrate: () => migrate(db as never, { migrationsFolder }),
+      dumpDataDir: () => client.dumpDataDir('none'),
       async executeSql(text, values) {
         if (values?.length) return client.query(text, values);
         const results = await client.exec(text);

@@ -6,42 +6,16 @@
 // exactly one draft run. The exactly-once hand-out itself is the queue package's (pg-boss fetches
 // with FOR UPDATE SKIP LOCKED); the test checks its outcome, not its mechanism.
 import { spawn, type ChildProcess } from 'node:child_process';
-import { stringify } from 'csv-stringify/sync';
 import pg from 'pg';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { dispersionConstant } from '../../shared/physics/constants.js';
-import { createRng } from '../../shared/sim/random.js';
-import { simulateResidualVisit, type SimToa } from '../../shared/sim/visits.js';
 import { jobs } from '../../server/db/schema.js';
 import { ANALYSIS_QUEUE } from '../../server/jobs/queue.js';
 import { BIN, sightline } from '../helpers/cli.js';
+import { residualCsv } from '../helpers/residual-csv.js';
 import { startTestServer, type TestServer } from '../helpers/server.js';
 
 const HAVE_PG = Boolean(process.env.SIGHTLINE_TEST_DATABASE_URL);
 const JOBS = 24;
-
-/** One invented pulsar's residuals: 8 visits × 8 frequencies (a few hundred ms to fit). */
-function residualCsv(): Buffer {
-  const k = dispersionConstant('conventional');
-  const rng = createRng(902);
-  const toas: SimToa[] = [];
-  for (let v = 0; v < 8; v++)
-    toas.push(
-      ...simulateResidualVisit(
-        k,
-        {
-          source: 'SBP-D',
-          startMjd: 60510.2 + 10 * v,
-          ddm: 2e-4 * Math.cos(v / 2),
-          freqsMhz: [700, 800, 950, 1100, 1300, 1500, 1800, 2400],
-          errUs: [0.9, 0.8, 0.7, 0.6, 0.5, 0.5, 0.6, 0.8],
-          offsetUs: -0.4,
-        },
-        rng,
-      ),
-    );
-  return Buffer.from(stringify(toas, { header: true }));
-}
 
 interface WorkerProcess {
   name: string;
