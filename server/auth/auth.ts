@@ -1,6 +1,7 @@
 // Sign-in, sessions, roles and API tokens through better-auth: e-mail + password (its own
 // password hashing), sessions in http-only SameSite cookies, the admin plugin for users and
 // roles, and the api-key plugin for robot tokens (only a hash of each key is stored).
+import { TOKEN_DAYS, TOKEN_SCOPES } from '../../shared/schemas/api.js';
 import { apiKey } from '@better-auth/api-key';
 import { drizzleAdapter } from '@better-auth/drizzle-adapter';
 import { betterAuth } from 'better-auth';
@@ -82,7 +83,14 @@ export function createAuth(o: AuthOptions) {
         maximumNameLength: 64,
         // the Express layer limits requests; a CI job may push hundreds of results in a row
         rateLimit: { enabled: false },
-        keyExpiration: { defaultExpiresIn: null },
+        // every token expires (a year unless asked otherwise, at most two years); scopes are
+        // better-auth permissions { sightline: [...] } (server/auth/middleware.ts enforces them)
+        keyExpiration: {
+          defaultExpiresIn: TOKEN_DAYS.default * 86_400_000,
+          minExpiresIn: TOKEN_DAYS.min,
+          maxExpiresIn: TOKEN_DAYS.max,
+        },
+        permissions: { defaultPermissions: { sightline: [...TOKEN_SCOPES] } },
       }),
     ],
   });

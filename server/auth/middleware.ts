@@ -6,6 +6,7 @@ import type { NextFunction, Request, RequestHandler, Response } from 'express';
 import type { Services } from '../context.js';
 import { user as userTable, ROLES, type Role } from '../db/schema.js';
 import { ApiError } from '../errors.js';
+import { TOKEN_SCOPES, type TokenScope } from '../../shared/schemas/api.js';
 
 export interface Actor {
   id: string;
@@ -14,6 +15,8 @@ export interface Actor {
   role: Role;
   via: 'session' | 'token';
   tokenId?: string;
+  /** what a token may do (tokens only) */
+  scopes?: TokenScope[];
 }
 
 declare module 'express-serve-static-core' {
@@ -58,6 +61,52 @@ export function checkOrigin(req: Request, trusted: string[]): void {
     throw new ApiError(415, 'unsupported_media_type', 'send JSON (application/json)');
 }
 
+/**
+ * A token's scopes from its better-auth permissions ({ sightline: [...] }, stored as JSON text or
+ * given parsed); a token made before scopes existed (no permissions) may do all three.
+ */
+export function scopesOf(permissions: unknown): TokenScope[] {
+  let p = permissions;
+  if (typeof p === 'string') {
+    try {
+      p = JSON.parse(p);
+    } catch {
+      return [];
+    }
+  }
+  if (p === null || p === undefined) return [...TOKEN_SCOPES];
+  const list = (p as { sightline?: unknown }).sightline;
+  return Array.isArray(list) ? TOKEN_SCOPES.filter((x) => list.includes(x)) : [];
+}
+
+/** Routes a token never reaches, whatever its scopes: accounts and tokens are managed by people. */
+const PEOPLE_ONLY = /^\/api\/(users|tokens|auth)(\/|$)/;
+
+/** The scope a request needs when it comes with a token (interfaces.md, README "API tokens"). */
+export function scopeNeeded(method: string, path: string): TokenScope | 'session' {
+  if (PEOPLE_ONLY.test(path) && !SAFE.has(method)) return 'session';
+  if (SAFE.has(method)) return 'read';
+  if (method === 'POST' && /^\/api\/baselines\/check\/?$/.test(path)) return 'check';
+  return 'push';
+}
+
+function checkScope(req: Request, scopes: TokenScope[]): void {
+  const path = req.originalUrl.split('?')[0];
+  const need = scopeNeeded(req.method, path);
+  if (need === 'session')
+    throw new ApiError(
+      403,
+      'session_required',
+      'accounts and tokens are managed signed in, not with a token',
+    );
+  if (!scopes.includes(need))
+    throw new ApiError(
+      403,
+      'insufficient_scope',
+      `this token may ${scopes.join(', ') || 'nothing'}; this request needs the ${need} scope`,
+    );
+}
+
 export function authenticate(s: Services): RequestHandler {
   return async (req: Request, _res: Response, next: NextFunction) => {
     const token = bearer(req);
@@ -74,7 +123,9 @@ export function authenticate(s: Services): RequestHandler {
         role: asRole(u.role),
         via: 'token',
         tokenId: r.key.id,
+        scopes: scopesOf(r.key.permissions),
       };
+      checkScope(req, req.actor.scopes!);
       next();
       return;
     }

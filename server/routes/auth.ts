@@ -4,6 +4,7 @@ import { rateLimit } from 'express-rate-limit';
 import { checkOrigin } from '../auth/middleware.js';
 import type { Services } from '../context.js';
 import { sendError } from '../errors.js';
+import { writeAudit } from '../services/audit.js';
 
 /**
  * The better-auth endpoints Sightline uses. better-auth also serves its admin plugin (set-role,
@@ -60,6 +61,15 @@ async function withoutSessionToken(res: Response): Promise<Response> {
   return new Response(JSON.stringify(body), { status: res.status, headers });
 }
 
+/** The e-mail a sign-in attempt names (for the audit entry of a failure), or null. */
+async function claimedEmail(request: Request): Promise<string | null> {
+  const body = (await request
+    .clone()
+    .json()
+    .catch(() => null)) as { email?: unknown } | null;
+  return body && typeof body.email === 'string' ? body.email.toLowerCase().slice(0, 254) : null;
+}
+
 /**
  * better-auth's own endpoints under /api/auth (sign-in/email, sign-out, get-session,
  * change-password). They read the raw body themselves, so this router is mounted before
@@ -69,21 +79,52 @@ async function withoutSessionToken(res: Response): Promise<Response> {
  */
 export function authRouter(s: Services): Router {
   const r = Router();
-  const handler = toNodeHandler(async (request: Request) =>
-    withoutSessionToken(await apiErrorShape(await s.auth.handler(request))),
-  );
+  const handler = toNodeHandler(async (request: Request) => {
+    const signIn =
+      request.method === 'POST' && new URL(request.url).pathname.endsWith('/auth/sign-in/email');
+    const email = signIn ? await claimedEmail(request) : null;
+    const response = await s.auth.handler(request);
+    // failed sign-ins are audited (the successful ones by the auth hook, server/services.ts)
+    if (signIn && response.status !== 200)
+      await writeAudit(s.db, null, {
+        action: 'auth.sign_in_failed',
+        targetType: 'user',
+        targetId: email,
+        after: { ip: request.headers.get('x-forwarded-for'), status: response.status },
+      }).catch((err: unknown) => s.logger.error({ err }, 'could not audit a failed sign-in'));
+    return withoutSessionToken(await apiErrorShape(response));
+  });
+  // one audit entry per address and minute while it is being refused, not one per attempt
+  const limitedAudited = new Map<string, number>();
   const signInLimit = rateLimit({
     windowMs: 60_000,
     limit: s.limits.signInPerMinute,
     standardHeaders: 'draft-8',
     legacyHeaders: false,
-    handler: (_req, res) =>
-      sendError(
-        res,
-        429,
-        'rate_limited',
-        'too many sign-in attempts from this address; wait a minute',
-      ),
+    handler: (req, res) => {
+      const ip = req.ip ?? req.socket.remoteAddress ?? '';
+      const now = Date.now();
+      for (const [k, t] of limitedAudited) if (now - t > 60_000) limitedAudited.delete(k);
+      const audited = limitedAudited.has(ip)
+        ? Promise.resolve()
+        : (limitedAudited.set(ip, now),
+          writeAudit(s.db, null, {
+            action: 'auth.sign_in_limited',
+            targetType: 'address',
+            targetId: ip,
+            after: { limit_per_minute: s.limits.signInPerMinute },
+          }));
+      void audited
+        .catch((err: unknown) => s.logger.error({ err }, 'could not audit a refused sign-in'))
+        .then(() =>
+          sendError(
+            res,
+            429,
+            'rate_limited',
+            'too many sign-in attempts from this address; wait a minute',
+          ),
+        );
+    },
   });
   r.use('/auth', (req, _res, next) => {
     checkOrigin(req, s.trustedOrigins);

@@ -6,11 +6,20 @@ import {
   createTokenBody,
   createUserBody,
   listQuery,
+  TOKEN_DAYS,
+  TOKEN_SCOPES,
   updateUserBody,
 } from '../../shared/schemas/api.js';
-import { actorOf, anyone, contributor, requireRole, type Actor } from '../auth/middleware.js';
+import {
+  actorOf,
+  anyone,
+  contributor,
+  requireRole,
+  scopesOf,
+  type Actor,
+} from '../auth/middleware.js';
 import type { Services } from '../context.js';
-import { apikey, audit, mail, user } from '../db/schema.js';
+import { apikey, audit, mail, session, user } from '../db/schema.js';
 import { ApiError, forbidden, notFoundError, parseBody } from '../errors.js';
 import { writeAudit } from '../services/audit.js';
 
@@ -43,6 +52,7 @@ function tokenView(k: typeof apikey.$inferSelect) {
     enabled: k.enabled !== false,
     last_used_at: k.lastRequest?.toISOString() ?? null,
     expires_at: k.expiresAt?.toISOString() ?? null,
+    scopes: scopesOf(k.permissions),
     created_at: k.createdAt.toISOString(),
   };
 }
@@ -141,11 +151,14 @@ export function peopleRouter(s: Services): Router {
           },
           String(req.id),
         );
+      // a disabled account, or one whose role changed, loses its sessions at once, in the same
+      // transaction: the person signs in again into what they may now do (sessions are rows,
+      // with no cookie cache, so none outlives this; a disabled owner's tokens are refused by
+      // the middleware, and tokens act with the owner's current role)
+      if (body.disabled || (body.role && body.role !== before.role))
+        await tx.delete(session).where(eq(session.userId, id));
       return u;
     });
-    // a disabled account loses its sessions at once (its tokens are refused by the middleware)
-    if (body.disabled)
-      await s.auth.api.revokeUserSessions({ body: { userId: id } }).catch(() => {});
     res.json(userView(after));
   });
 
@@ -174,7 +187,16 @@ export function peopleRouter(s: Services): Router {
     mayManage(actor, ownerId);
     const [owner] = await s.db.select().from(user).where(eq(user.id, ownerId));
     if (!owner) throw notFoundError(`user ${ownerId}`);
-    const made = await s.auth.api.createApiKey({ body: { name: body.name, userId: ownerId } });
+    const scopes = body.scopes ?? [...TOKEN_SCOPES];
+    const days = body.expires_in_days ?? TOKEN_DAYS.default;
+    const made = await s.auth.api.createApiKey({
+      body: {
+        name: body.name,
+        userId: ownerId,
+        permissions: { sightline: scopes },
+        expiresIn: days * 86_400,
+      },
+    });
     await writeAudit(
       s.db,
       actor,
@@ -182,7 +204,7 @@ export function peopleRouter(s: Services): Router {
         action: 'token.create',
         targetType: 'token',
         targetId: made.id,
-        after: { name: body.name, user_id: ownerId },
+        after: { name: body.name, user_id: ownerId, scopes, expires_in_days: days },
       },
       String(req.id),
     );

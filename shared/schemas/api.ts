@@ -70,10 +70,27 @@ export const listRunsQuery = z.object({
 
 export const compareQuery = z.object({ a: z.uuid(), b: z.uuid() });
 
+/**
+ * What a robot token may do: `read` (every GET), `push` (create runs, upload, queue analyses,
+ * submit and comment), `check` (baseline checks). Tokens never manage tokens or accounts.
+ */
+export const TOKEN_SCOPES = ['read', 'push', 'check'] as const;
+export type TokenScope = (typeof TOKEN_SCOPES)[number];
+/** Tokens always expire: 1 day to 2 years, a year by default. */
+export const TOKEN_DAYS = { min: 1, max: 730, default: 365 } as const;
+
 export const createTokenBody = z.object({
   name: text(64).min(1),
   /** admins may create a token for another user (a robot account) */
   user_id: z.string().min(1).optional(),
+  /** default: all three */
+  scopes: z
+    .array(z.enum(TOKEN_SCOPES))
+    .min(1, 'choose at least one scope')
+    .refine((a) => new Set(a).size === a.length, 'each scope once')
+    .optional(),
+  /** default: 365 */
+  expires_in_days: z.number().int().min(TOKEN_DAYS.min).max(TOKEN_DAYS.max).optional(),
 });
 
 export const createUserBody = z.object({

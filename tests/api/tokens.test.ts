@@ -294,4 +294,94 @@ describe.each(ENGINES)('API tokens on %s', (engine) => {
       .send({ role: 'analyst' });
     expect((await auditOf('user.role')).length).toBe(n);
   });
+  it('scopes: read only reads, push only pushes, check only checks', async () => {
+    const mk = async (scopes: string[]) => {
+      const r = await post('ben', '/api/tokens', { name: `ben ${scopes.join('+')}`, scopes });
+      expect(r.status, r.text).toBe(201);
+      expect(r.body.scopes).toEqual(scopes);
+      return bearer(r.body.token);
+    };
+    const [read, push, check] = [await mk(['read']), await mk(['push']), await mk(['check'])];
+    type H = Record<string, string>;
+    const list = (h: H) => t.http.get('/api/runs').set(h);
+    const pushRun = (h: H) =>
+      t.http
+        .post('/api/runs')
+        .set(h)
+        .send({ result: quietFit('SBP-C', 2e-6) });
+    const checkRun = (h: H) =>
+      t.http
+        .post('/api/baselines/check')
+        .set(h)
+        .send({ results: [quietFit('SBP-A')] });
+    expect((await list(read)).status).toBe(200);
+    expect((await pushRun(push)).status).toBe(201);
+    expect((await checkRun(check)).status).toBe(200);
+    for (const [h, call, need] of [
+      [read, pushRun, 'push'],
+      [read, checkRun, 'check'],
+      [push, list, 'read'],
+      [push, checkRun, 'check'],
+      [check, list, 'read'],
+      [check, pushRun, 'push'],
+    ] as const) {
+      const r = await call(h);
+      expect(r.status, r.text).toBe(403);
+      expect(r.body.error.code).toBe('insufficient_scope');
+      expect(r.body.error.message).toContain(`needs the ${need} scope`);
+    }
+    // unknown or repeated scopes are refused when the token is made
+    expect((await post('ben', '/api/tokens', { name: 'x', scopes: ['admin'] })).status).toBe(400);
+    expect((await post('ben', '/api/tokens', { name: 'x', scopes: [] })).status).toBe(400);
+    expect((await post('ben', '/api/tokens', { name: 'x', scopes: ['read', 'read'] })).status).toBe(
+      400,
+    );
+  });
+
+  it('a token never manages tokens or accounts, whatever its scopes and role', async () => {
+    const made = await post('admin', '/api/tokens', { name: 'admin robot' });
+    expect(made.body.scopes).toEqual(['read', 'push', 'check']);
+    const h = bearer(made.body.token);
+    for (const r of [
+      await t.http.post('/api/tokens').set(h).send({ name: 'child' }),
+      await t.http.delete(`/api/tokens/${made.body.id}`).set(h),
+      await t.http.patch(`/api/users/${t.people.ben.id}`).set(h).send({ role: 'lead' }),
+      await t.http
+        .post('/api/users')
+        .set(h)
+        .send({ email: 'new@saltbush.test', name: 'New', role: 'admin' }),
+    ]) {
+      expect(r.status, r.text).toBe(403);
+      expect(r.body.error.code).toBe('session_required');
+    }
+    const ben = await get('admin', '/api/users');
+    expect(ben.body.items.find((u: { id: string }) => u.id === t.people.ben.id).role).toBe(
+      'analyst',
+    );
+  });
+
+  it('every token expires: a year by default, 1–730 days on request; an expired one is refused', async () => {
+    const day = 86_400_000;
+    const near = (iso: string, days: number) =>
+      Math.abs(Date.parse(iso) - (Date.now() + days * day)) < 60_000;
+    const yearly = await post('ana', '/api/tokens', { name: 'ana default' });
+    expect(near(yearly.body.expires_at, 365)).toBe(true);
+    const week = await post('ana', '/api/tokens', { name: 'ana week', expires_in_days: 7 });
+    expect(week.status).toBe(201);
+    expect(near(week.body.expires_at, 7)).toBe(true);
+    for (const d of [0, 731, 1.5])
+      expect((await post('ana', '/api/tokens', { name: 'bad', expires_in_days: d })).status).toBe(
+        400,
+      );
+    const h = bearer(week.body.token);
+    expect((await t.http.get('/api/runs').set(h)).status).toBe(200);
+    // a week later (moved in the database rather than waited for)
+    await t.running.services.db
+      .update(apikey)
+      .set({ expiresAt: new Date(Date.now() - 1000) })
+      .where(eq(apikey.id, week.body.id));
+    const r = await t.http.get('/api/runs').set(h);
+    expect(r.status).toBe(401);
+    expect(r.body.error.code).toBe('invalid_token');
+  });
 });

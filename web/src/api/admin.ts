@@ -24,6 +24,8 @@ export interface TokenView {
   enabled: boolean;
   last_used_at: string | null;
   expires_at: string | null;
+  /** what it may do: read, push, check */
+  scopes: string[];
   created_at: string;
 }
 

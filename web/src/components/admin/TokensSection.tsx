@@ -2,7 +2,7 @@ import { zodResolver } from '@hookform/resolvers/zod';
 import { useId, useState } from 'react';
 import { useForm } from 'react-hook-form';
 import type { z } from 'zod';
-import { createTokenBody } from '../../../../shared/schemas/api';
+import { createTokenBody, TOKEN_DAYS, TOKEN_SCOPES } from '../../../../shared/schemas/api';
 import {
   useCreateToken,
   useRevokeToken,
@@ -27,11 +27,19 @@ import { SecretOnce } from './SecretOnce';
 
 type TokenForm = z.input<typeof createTokenBody>;
 
+const SCOPE_HINT: Record<(typeof TOKEN_SCOPES)[number], string> = {
+  read: 'read runs, baselines, plots',
+  push: 'push results, upload, queue analyses',
+  check: 'baseline checks in CI',
+};
+const LIFETIMES = [7, 30, 90, TOKEN_DAYS.default, TOKEN_DAYS.max];
+
 function CreateToken({ me, users }: { me: Me; users?: UserView[] }) {
   const create = useCreateToken();
   const [made, setMade] = useState<{ token: string; name: string; owner: string }>();
   const nameId = useId();
   const ownerId = useId();
+  const lifeId = useId();
   const {
     register,
     handleSubmit,
@@ -40,17 +48,22 @@ function CreateToken({ me, users }: { me: Me; users?: UserView[] }) {
   } = useForm<TokenForm, unknown, z.output<typeof createTokenBody>>({
     resolver: zodResolver(createTokenBody),
     mode: 'onChange',
-    defaultValues: { name: '' },
+    defaultValues: { name: '', scopes: [...TOKEN_SCOPES], expires_in_days: TOKEN_DAYS.default },
   });
   const submit = handleSubmit((b) =>
-    create.mutate(b.user_id && b.user_id !== me.id ? b : { name: b.name }, {
+    create.mutate(b.user_id && b.user_id !== me.id ? b : { ...b, user_id: undefined }, {
       onSuccess: (t) => {
         setMade({
           token: t.token,
           name: t.name,
           owner: users?.find((u) => u.id === t.user_id)?.email ?? me.email,
         });
-        reset({ name: '', user_id: b.user_id });
+        reset({
+          name: '',
+          user_id: b.user_id,
+          scopes: b.scopes,
+          expires_in_days: b.expires_in_days,
+        });
       },
     }),
   );
@@ -106,6 +119,36 @@ function CreateToken({ me, users }: { me: Me; users?: UserView[] }) {
             <p className="text-xs text-ink-soft">A robot account for CI, or a colleague.</p>
           </div>
         )}
+        <fieldset className="flex flex-col gap-1">
+          <legend className="text-sm font-medium">May</legend>
+          {TOKEN_SCOPES.map((sc) => (
+            <label key={sc} className="flex items-center gap-2 text-sm">
+              <input type="checkbox" value={sc} {...register('scopes')} />
+              <span className="font-medium">{sc}</span>
+              <span className="text-xs text-ink-soft">{SCOPE_HINT[sc]}</span>
+            </label>
+          ))}
+          {errors.scopes && (
+            <p className="text-xs text-alert">{errors.scopes.message ?? 'choose a scope'}</p>
+          )}
+        </fieldset>
+        <div className="flex flex-col gap-1">
+          <label htmlFor={lifeId} className="text-sm font-medium">
+            Expires after
+          </label>
+          <select
+            id={lifeId}
+            className={inputClass}
+            {...register('expires_in_days', { valueAsNumber: true })}
+          >
+            {LIFETIMES.map((d) => (
+              <option key={d} value={d}>
+                {d} days
+              </option>
+            ))}
+          </select>
+          <p className="text-xs text-ink-soft">Every token expires; make a new one in time.</p>
+        </div>
         <button
           type="submit"
           disabled={!isValid || create.isPending}
@@ -144,6 +187,7 @@ function TokenRow({ t, owner, showOwner }: { t: TokenView; owner: string; showOw
         </span>
       </td>
       <td className={`${td} num text-xs`}>{t.start ? `${t.start}…` : '—'}</td>
+      <td className={`${td} text-xs`}>{t.scopes.join(' · ')}</td>
       {showOwner && <td className={td}>{owner}</td>}
       <td className={`${td} num text-xs`}>{dateTime(t.created_at)}</td>
       <td className={`${td} num text-xs`}>
@@ -227,6 +271,7 @@ export function TokensSection({ me, all }: { me: Me; all: boolean }) {
             cells={[
               'Name',
               'Starts with',
+              'May',
               all && 'Owner',
               'Created',
               'Last used',
