@@ -146,9 +146,13 @@ export function actorOf(req: Request): Actor {
   return req.actor;
 }
 
+/** Who a route admits, kept on its guard so a test can check every route has one. */
+export type RouteRule = { roles: readonly Role[] } | { public: string };
+export type Guard = RequestHandler & { rule: RouteRule };
+
 /** The caller's role must be one of `roles`. */
-export function requireRole(...roles: Role[]): RequestHandler {
-  return (req, _res, next) => {
+export function requireRole(...roles: Role[]): Guard {
+  const guard: RequestHandler = (req, _res, next) => {
     const actor = actorOf(req);
     if (!roles.includes(actor.role))
       throw new ApiError(
@@ -158,6 +162,17 @@ export function requireRole(...roles: Role[]): RequestHandler {
       );
     next();
   };
+  return Object.assign(guard, { rule: { roles } });
+}
+
+/**
+ * A route open to anyone, signed in or not, and why (health checks, signing in). Access is
+ * denied by default: every route starts with a guard, this one or requireRole's
+ * (tests/api/roles.test.ts walks the routers and fails on a route without one).
+ */
+export function publicRoute(why: string): Guard {
+  const guard: RequestHandler = (_req, _res, next) => next();
+  return Object.assign(guard, { rule: { public: why } });
 }
 
 export const atLeast = (role: Role): Role[] => ROLES.filter((r) => RANK[r] >= RANK[role]);

@@ -1,7 +1,7 @@
 import { toNodeHandler } from 'better-auth/node';
 import { Router } from 'express';
 import { rateLimit } from 'express-rate-limit';
-import { checkOrigin } from '../auth/middleware.js';
+import { checkOrigin, publicRoute } from '../auth/middleware.js';
 import type { Services } from '../context.js';
 import { sendError } from '../errors.js';
 import { writeAudit } from '../services/audit.js';
@@ -132,16 +132,20 @@ export function authRouter(s: Services): Router {
   });
   r.use('/auth/sign-in', signInLimit);
   // open sign-up is off (admins create accounts); say so plainly rather than with a bare 400
-  r.post('/auth/sign-up/{*rest}', (_req, res) =>
+  r.post('/auth/sign-up/{*rest}', publicRoute('refuses everyone: sign-up is closed'), (_req, res) =>
     sendError(res, 403, 'sign_up_disabled', 'accounts are created by an admin'),
   );
-  r.all('/auth/{*rest}', (req, res) => {
-    if (!EXPOSED.has(`${req.method} ${req.path}`)) {
-      sendError(res, 404, 'not_found', `no route for ${req.method} ${req.originalUrl}`);
-      return;
-    }
-    req.headers['x-forwarded-for'] = req.ip ?? req.socket.remoteAddress ?? '';
-    void handler(req, res);
-  });
+  r.all(
+    '/auth/{*rest}',
+    publicRoute('signing in needs no account; only EXPOSED endpoints answer'),
+    (req, res) => {
+      if (!EXPOSED.has(`${req.method} ${req.path}`)) {
+        sendError(res, 404, 'not_found', `no route for ${req.method} ${req.originalUrl}`);
+        return;
+      }
+      req.headers['x-forwarded-for'] = req.ip ?? req.socket.remoteAddress ?? '';
+      void handler(req, res);
+    },
+  );
   return r;
 }

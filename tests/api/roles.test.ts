@@ -4,9 +4,10 @@
 // keeps own tokens; lead also approves or returns others' runs; admin manages users, roles,
 // others' tokens and reads the audit — and does NOT approve). Anonymous callers get 401
 // everywhere except /api/health and the sign-in endpoints under /api/auth.
-import { readdirSync, readFileSync } from 'node:fs';
 import { eq } from 'drizzle-orm';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createApp } from '../../server/app.js';
+import type { Guard, RouteRule } from '../../server/auth/middleware.js';
 import { apikey, user } from '../../server/db/schema.js';
 import { quietFit } from '../helpers/results.js';
 import {
@@ -576,23 +577,45 @@ describe.each(ENGINES)('roles × routes on %s', (engine) => {
   }, 120_000);
   afterAll(() => t?.close());
 
-  it('the matrix covers every route the routers register', () => {
-    // every `r.<method>('<path>'` in server/routes/*.ts appears in a row (query strings and the
-    // parenthesised variants aside), so a new route cannot be added without deciding who may call it
-    const dir = new URL('../../server/routes/', import.meta.url);
-    const registered = readdirSync(dir)
-      .filter((f) => f.endsWith('.ts'))
-      .flatMap((f) =>
-        [
-          ...readFileSync(new URL(f, dir), 'utf8').matchAll(
-            /\br\.(get|post|patch|put|delete)\(\s*'([^']+)'/g,
-          ),
-        ].map((m) => `${m[1].toUpperCase()} /api${m[2]}`),
-      )
-      .filter((r) => !r.endsWith('{*rest}'));
-    const covered = new Set(ROWS.map((r) => r.route.replace(/[?(].*$/, '').trim()));
-    expect(registered.length).toBeGreaterThan(30);
-    expect(registered.filter((r) => !covered.has(r))).toEqual([]);
+  it('every route the app serves starts with a guard, and the matrix has a row for it', () => {
+    // walk the live Express app (not the source): each router mounted under /api, each route
+    const app = createApp({ webDir: t.dataDir, services: t.running.services });
+    const routes: { route: string; rule: RouteRule | undefined }[] = [];
+    type Layer = {
+      route?: { path: string; methods: Record<string, boolean>; stack: { handle: unknown }[] };
+      handle: { stack?: Layer[] };
+    };
+    const top = (app as unknown as { router: { stack: Layer[] } }).router.stack;
+    for (const layer of top)
+      for (const sub of layer.handle.stack ?? []) {
+        if (!sub.route) continue;
+        const first = sub.route.stack[0]?.handle as Partial<Guard> | undefined;
+        for (const m of Object.keys(sub.route.methods))
+          routes.push({ route: `${m.toUpperCase()} /api${sub.route.path}`, rule: first?.rule });
+      }
+    expect(routes.length).toBeGreaterThan(30);
+    // access denied by default: a route without a guard in front is a failure, named
+    expect(routes.filter((r) => !r.rule).map((r) => r.route)).toEqual([]);
+
+    const rows = new Map(ROWS.map((r) => [r.route.replace(/[?(].*$/, '').trim(), r]));
+    for (const { route, rule } of routes) {
+      const wildcard = route.match(/^(\w+) (.*)\/\{\*rest\}$/);
+      if (wildcard) {
+        // the auth library's paths: the matrix names each endpoint under it
+        const under = [...rows.keys()].filter((k) => k.split(' ')[1].startsWith(wildcard[2] + '/'));
+        expect(under.length, `${route}: no row under it`).toBeGreaterThan(0);
+        expect(rule).toHaveProperty('public');
+        continue;
+      }
+      const row = rows.get(route);
+      expect(row, `${route} has no row in the matrix`).toBeDefined();
+      // the guard admits exactly the roles the matrix says may call it
+      if (row!.may === 'public') expect(rule, route).toHaveProperty('public');
+      else if (row!.may !== 'nobody' && 'roles' in rule!)
+        expect([...rule.roles].sort(), route).toEqual(
+          expect.arrayContaining([...(row!.may as TestRole[])].sort()),
+        );
+    }
   });
 
   it.each(CELLS)('$name', async ({ row, caller, want }) => {
