@@ -75,6 +75,29 @@ export interface ScintAnalysis {
  * cut), each with an error combining the fit's and the finite-scintle fraction N_s^−½, τ from
  * the bandwidth, and the secondary spectrum with its arc curvature.
  */
+/** Channels and sub-integrations needed with unflagged pixels before anything is claimed. */
+const MIN_USABLE = 3;
+
+/** How many channels, and how many sub-integrations, keep at least one unflagged pixel. */
+function unflaggedExtent(
+  mask: ArrayLike<number | boolean>,
+  nchan: number,
+  nsub: number,
+): { channels: number; subints: number } {
+  const subUsed = new Uint8Array(nsub);
+  let channels = 0;
+  for (let c = 0; c < nchan; c++) {
+    let any = false;
+    for (let t = 0; t < nsub; t++)
+      if (!mask[c * nsub + t]) {
+        any = true;
+        subUsed[t] = 1;
+      }
+    if (any) channels++;
+  }
+  return { channels, subints: subUsed.reduce((a, b) => a + b, 0) };
+}
+
 export function analyseDynspec(ds: DynSpec, opts: ScintOptions): ScintAnalysis {
   const warnings: string[] = [];
   const rfi = flagRfi(ds, {
@@ -134,7 +157,21 @@ export function analyseDynspec(ds: DynSpec, opts: ScintOptions): ScintAnalysis {
   let status: ScintAnalysis['status'] = dnuD !== null ? 'measured' : 'failed';
   let dnuDUpper: number | null = null;
   let tauLowerUs: number | null = null;
-  if (dnuD === null && unresolved) {
+  // a limit needs data: with unflagged pixels in fewer than three channels or sub-integrations
+  // there is no structure to resolve or miss, so no limit either
+  const { channels: usableChannels, subints: usableSubints } = unflaggedExtent(
+    rfi.mask,
+    ds.nchan,
+    ds.nsub,
+  );
+  const tooLittle = usableChannels < MIN_USABLE || usableSubints < MIN_USABLE;
+  if (tooLittle) {
+    status = 'failed';
+    dnuD = dnuDErr = dtD = dtDErr = nScintles = null;
+    warnings.push(
+      `only ${usableChannels} channel(s) and ${usableSubints} sub-integration(s) hold unflagged pixels (at least ${MIN_USABLE} of each are needed): nothing to correlate, no measurement and no limit`,
+    );
+  } else if (dnuD === null && unresolved) {
     status = 'unresolved';
     dnuDUpper = ds.dfMhz;
     tauLowerUs = tauFromBandwidthUs(ds.dfMhz, opts.c1);

@@ -307,7 +307,9 @@ export function flagRfi(ds: DynSpec, opts: RfiOptions): RfiResult {
     subints,
     pixels,
     flaggedFraction: flaggedCount / mask.length,
-    snrCostFraction: sumAll > 0 ? 1 - Math.sqrt(sumKept / sumAll) : 0,
+    // nothing left is everything lost, whatever the (then undefined) smooth spectrum says
+    snrCostFraction:
+      flaggedCount === mask.length ? 1 : sumAll > 0 ? 1 - Math.sqrt(sumKept / sumAll) : 0,
     model: finalModel,
     noise,
   };
