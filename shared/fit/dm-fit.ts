@@ -199,16 +199,9 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
   }
   const source = table.sources[table.sourceId(rows[0])];
   const mjd = mjdSum / n;
-  const freqsOf = (active: Uint8Array) => countDistinctFrequencies(table, rows, active);
   const active = new Uint8Array(n).fill(1);
-  const nFreqs = freqsOf(active);
+  const nFreqs = countDistinctFrequencies(table, rows, active);
   const hasReceivers = table.header.hasReceiver;
-  const receiverNames = (active: Uint8Array) => {
-    if (!hasReceivers) return NO_RECEIVERS;
-    const ids = new Set<number>();
-    for (let j = 0; j < n; j++) if (active[j]) ids.add(table.receiverId(rows[j]));
-    return [...ids].sort((a, b) => a - b).map((id) => table.receivers[id]);
-  };
   const head: VisitHead = {
     source,
     mjd: round(mjd, 1e-7),
@@ -221,11 +214,15 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
     dmKind: residualMode ? 'offset' : 'absolute',
   };
   const warnings: string[] = [];
-  const unconstrained = (model: string): VisitFit =>
-    visitRecord(head, undefined, flaggedRows(table, rows, active), warnings, model);
   if (nFreqs < 2) {
     warnings.push('fewer than two distinct frequencies: DM is not constrained, visit not fitted');
-    return unconstrained(describeModel(receiverNames(active), opts.evolution, residualMode));
+    return visitRecord(
+      head,
+      undefined,
+      flaggedRows(table, rows, active),
+      warnings,
+      describeModel(receiverNames(table, rows, active), opts.evolution, residualMode),
+    );
   }
 
   // with pulse numbers the offsets need no folding; the period only converts pulse differences
@@ -241,7 +238,7 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
     );
   }
   // Data: residuals as given, or arrival-time offsets from the highest-frequency arrival.
-  const { y, sigma, ya, sa, x, residuals } = scratchFor(n);
+  const { y, sigma, ya, sa, x, residuals, activeIdx } = scratchFor(n);
   let periodUsed: number | undefined;
   for (let j = 0; j < n; j++) {
     const i = rows[j];
@@ -269,12 +266,11 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
   let receivers: string[];
   let p: number;
   for (;;) {
-    const activeIdx: number[] = [];
-    for (let j = 0; j < n; j++) if (active[j]) activeIdx.push(j);
-    receivers = receiverNames(active);
+    let m = 0;
+    for (let j = 0; j < n; j++) if (active[j]) activeIdx[m++] = j;
+    receivers = receiverNames(table, rows, active);
     const nOff = receivers.length;
     p = nOff + 1 + opts.evolution;
-    const m = activeIdx.length;
     // one offset and DM only: the closed-form line fit (same solution as QR, far fewer steps)
     const line = p === 2;
     const design = line ? x : new Float64Array(m * p);
@@ -309,7 +305,13 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
           ? `${m} arrival times cannot fix ${p} parameters: visit not fitted`
           : 'DM cannot be separated from the receiver offsets or evolution terms (does each receiver cover only one frequency?): visit not fitted',
       );
-      return unconstrained(describeModel(receivers, opts.evolution, residualMode));
+      return visitRecord(
+        head,
+        undefined,
+        flaggedRows(table, rows, active),
+        warnings,
+        describeModel(receivers, opts.evolution, residualMode),
+      );
     }
     if (opts.clipSigma === undefined || fit.dof < 2) break;
     const z = new Float64Array(m);
@@ -322,7 +324,7 @@ export function fitVisit(table: ToaTable, rows: ArrayLike<number>, opts: DmFitOp
     const spread = Math.max(1, robustSigma(z));
     if (Math.abs(z[worst]) / spread <= opts.clipSigma) break;
     active[activeIdx[worst]] = 0;
-    if (freqsOf(active) < 2) {
+    if (countDistinctFrequencies(table, rows, active) < 2) {
       active[activeIdx[worst]] = 1;
       break;
     }
@@ -496,6 +498,8 @@ interface Scratch {
   sa: Float64Array;
   x: Float64Array;
   residuals: Float64Array;
+  /** positions (in the visit) of the arrival times still fitted */
+  activeIdx: Uint32Array;
 }
 let scratch: Scratch | undefined;
 
@@ -510,25 +514,49 @@ function scratchFor(n: number): Scratch {
       sa: new Float64Array(size),
       x: new Float64Array(size),
       residuals: new Float64Array(size),
+      activeIdx: new Uint32Array(size),
     };
   }
   return scratch;
 }
 
-/** Number of distinct frequencies among the active rows (sorted scratch copy, no Set). */
+/**
+ * Number of distinct frequencies among the active rows (sorted scratch copy, no Set). Visits
+ * are small: up to 32 rows an insertion sort in place, beyond that the typed array's own sort.
+ * (Frequencies are validated positive numbers, so `<` orders them as that sort does.)
+ */
 function countDistinctFrequencies(
   table: ToaTable,
   rows: ArrayLike<number>,
   active: Uint8Array,
 ): number {
   if (distinctScratch.length < rows.length) distinctScratch = new Float64Array(rows.length * 2);
+  const f = distinctScratch;
   let m = 0;
-  for (let j = 0; j < rows.length; j++)
-    if (active[j]) distinctScratch[m++] = table.freqMhz(rows[j]);
-  const f = distinctScratch.subarray(0, m).sort();
+  for (let j = 0; j < rows.length; j++) if (active[j]) f[m++] = table.freqMhz(rows[j]);
+  if (m > 32) f.subarray(0, m).sort();
+  else {
+    for (let j = 1; j < m; j++) {
+      const v = f[j];
+      let k = j - 1;
+      while (k >= 0 && f[k] > v) {
+        f[k + 1] = f[k];
+        k--;
+      }
+      f[k + 1] = v;
+    }
+  }
   let count = m > 0 ? 1 : 0;
   for (let j = 1; j < m; j++) if (f[j] !== f[j - 1]) count++;
   return count;
+}
+
+/** The receivers of the active rows, by id; NO_RECEIVERS for a table without a receiver column. */
+function receiverNames(table: ToaTable, rows: ArrayLike<number>, active: Uint8Array): string[] {
+  if (!table.header.hasReceiver) return NO_RECEIVERS;
+  const ids = new Set<number>();
+  for (let j = 0; j < rows.length; j++) if (active[j]) ids.add(table.receiverId(rows[j]));
+  return [...ids].sort((a, b) => a - b).map((id) => table.receivers[id]);
 }
 
 /** The chromatic fit of a visit on its (unclipped) rows; replaces the DM and fit quality. */

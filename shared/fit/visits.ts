@@ -40,23 +40,32 @@ export function groupVisits(
 ): Array<[number, number]> {
   const out: Array<[number, number]> = [];
   const mjd = t.mjdColumn();
-  const windowOf = (i: number) =>
-    grouping.kind === 'window' ? Math.floor((mjd[i] - grouping.startMjd) / grouping.windowDays) : 0;
+  const n = order.length;
+  if (n === 0) return out;
   let begin = 0;
-  for (let k = 1; k <= order.length; k++) {
-    if (k === order.length) {
-      if (order.length > 0) out.push([begin, k]);
-      break;
+  // one loop per kind, so the per-row test is not re-decided for every row
+  if (grouping.kind === 'gap') {
+    const gap = grouping.gapDays;
+    for (let k = 1; k < n; k++) {
+      const a = order[k - 1];
+      const b = order[k];
+      if (t.sourceId(a) !== t.sourceId(b) || mjd[b] - mjd[a] > gap) {
+        out.push([begin, k]);
+        begin = k;
+      }
     }
-    const a = order[k - 1];
-    const b = order[k];
-    const split =
-      t.sourceId(a) !== t.sourceId(b) ||
-      (grouping.kind === 'gap' ? mjd[b] - mjd[a] > grouping.gapDays : windowOf(a) !== windowOf(b));
-    if (split) {
-      out.push([begin, k]);
-      begin = k;
+  } else {
+    const { startMjd, windowDays } = grouping;
+    const windowOf = (i: number) => Math.floor((mjd[i] - startMjd) / windowDays);
+    for (let k = 1; k < n; k++) {
+      const a = order[k - 1];
+      const b = order[k];
+      if (t.sourceId(a) !== t.sourceId(b) || windowOf(a) !== windowOf(b)) {
+        out.push([begin, k]);
+        begin = k;
+      }
     }
   }
+  out.push([begin, n]);
   return out;
 }

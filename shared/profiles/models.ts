@@ -1,5 +1,5 @@
 import FFT from 'fft.js';
-import { periodicEmg, type EmgTerms } from './emg.js';
+import { periodicEmgRun } from './emg.js';
 
 /**
  * Scattered pulse-profile models over one rotation of `nbin` bins (time unit: bins).
@@ -24,7 +24,11 @@ export function gaussModel(components: number, nbin: number): ProfileModel {
   const names = ['baseline', 'tau'];
   for (let c = 1; c <= components; c++) names.push(`area_${c}`, `center_${c}`, `width_${c}`);
   const p = names.length;
-  const t: EmgTerms = { f: 0, dfdu: 0, dfds: 0, dfdt: 0 };
+  // one component's periodic EMG and its derivatives over all bins (periodicEmgRun)
+  const f = new Float64Array(nbin);
+  const dfdu = new Float64Array(nbin);
+  const dfds = new Float64Array(nbin);
+  const dfdt = new Float64Array(nbin);
   return {
     kind: 'gauss',
     nbin,
@@ -34,27 +38,30 @@ export function gaussModel(components: number, nbin: number): ProfileModel {
       const b = params[0];
       const tau = params[1];
       for (let i = 0; i < nbin; i++) {
-        let v = b;
+        out[i] = b;
         if (jac) {
           const row = i * p;
           jac[row] = 1;
           jac[row + 1] = 0;
         }
-        for (let c = 0; c < components; c++) {
-          const area = params[2 + 3 * c];
-          const mu = params[3 + 3 * c];
-          const sigma = params[4 + 3 * c];
-          periodicEmg(i - mu, sigma, tau, nbin, t);
-          v += area * t.f;
+      }
+      // components in order, so each bin sums b + F₁f₁ + F₂f₂ + … as before
+      for (let c = 0; c < components; c++) {
+        const area = params[2 + 3 * c];
+        const mu = params[3 + 3 * c];
+        const sigma = params[4 + 3 * c];
+        // relative times i − μ for i = 0 … nbin − 1
+        periodicEmgRun(-mu, nbin, sigma, tau, nbin, f, dfdu, dfds, dfdt);
+        for (let i = 0; i < nbin; i++) {
+          out[i] += area * f[i];
           if (jac) {
             const row = i * p;
-            jac[row + 1] += area * t.dfdt;
-            jac[row + 2 + 3 * c] = t.f;
-            jac[row + 3 + 3 * c] = -area * t.dfdu;
-            jac[row + 4 + 3 * c] = area * t.dfds;
+            jac[row + 1] += area * dfdt[i];
+            jac[row + 2 + 3 * c] = f[i];
+            jac[row + 3 + 3 * c] = -area * dfdu[i];
+            jac[row + 4 + 3 * c] = area * dfds[i];
           }
         }
-        out[i] = v;
       }
     },
   };

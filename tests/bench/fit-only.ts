@@ -1,12 +1,15 @@
 /**
- * "Fit only" timing for `npm run bench` (run by tests/bench/run.mjs through `npx tsx`):
+ * "Fit only" timing for `npm run bench` (bundled by tests/bench/run.mjs with esbuild, the CLI's
+ * settings, and run by plain node):
  *
- *   npx tsx tests/bench/fit-only.ts TOAS.csv
+ *   node fit-only.mjs TOAS.csv [--repeat N]
  *
  * Loads the CSV with csv-parse/sync and the project's own row validation into a ToaTable (not
  * timed as part of fit_s; load_s is reported for information), then times only
  * fitDmVisits(table, …) with the CLI's defaults (conventional K, visits split at gaps > 0.5 day,
- * no clipping, no evolution terms) — sorting, grouping and fitting every visit. Best of 3 runs.
+ * no clipping, no evolution terms) — sorting, grouping and fitting every visit, building every
+ * visit's record. --repeat passes (default 1: the first pass, JIT warm-up included, as in a CLI
+ * run; run.mjs repeats the whole process instead); fit_s is the fastest.
  * Prints one JSON line: { fit_s, fit_runs_s, load_s, n_rows, n_visits }.
  */
 import { readFileSync } from 'node:fs';
@@ -16,9 +19,16 @@ import { checkHeader, parseToaRecord } from '../../shared/formats/toas.js';
 import { fitDmVisits, type DmFitOptions } from '../../shared/fit/dm-fit.js';
 import { dispersionConstant } from '../../shared/physics/constants.js';
 
-const file = process.argv[2];
-if (!file) {
-  process.stderr.write('usage: npx tsx tests/bench/fit-only.ts TOAS.csv\n');
+const args = process.argv.slice(2);
+let passes = 1;
+const r = args.indexOf('--repeat');
+if (r >= 0) {
+  passes = Number(args[r + 1]);
+  args.splice(r, 2);
+}
+const file = args[0];
+if (!file || args.length !== 1 || !(Number.isInteger(passes) && passes >= 1)) {
+  process.stderr.write('usage: node fit-only.mjs TOAS.csv [--repeat N]\n');
   process.exit(2);
 }
 
@@ -44,7 +54,7 @@ const opts: DmFitOptions = {
 };
 const runs: number[] = [];
 let nVisits = 0;
-for (let run = 0; run < 3; run++) {
+for (let run = 0; run < passes; run++) {
   const t = process.hrtime.bigint();
   nVisits = fitDmVisits(table, opts).length;
   runs.push(seconds(t));
