@@ -32,8 +32,42 @@ export function createApp({ webDir, services: s, trustProxy }: AppOptions): expr
     helmet({
       // plain http on a lab network is normal for this app; do not force https on the browser
       strictTransportSecurity: s.publicUrl.startsWith('https:'),
+      // nobody frames the app (the same rule as frame-ancestors 'none', for older browsers)
+      xFrameOptions: { action: 'deny' },
+      // Every directive spelled out (helmet's defaults off). The browser suite records every
+      // violation on every screen and fails on any (tests/e2e/helpers.ts).
       contentSecurityPolicy: {
-        directives: { upgradeInsecureRequests: s.publicUrl.startsWith('https:') ? [] : null },
+        useDefaults: false,
+        directives: {
+          defaultSrc: ["'self'"],
+          // the built bundle only: no inline script, no eval, no script in attributes
+          scriptSrc: ["'self'"],
+          scriptSrcAttr: ["'none'"],
+          // Tailwind's built CSS file; plus the two fixed <style> blocks the plot library
+          // (@observablehq/plot 0.6.17, src/plot.js and src/legends/ramp.js, default class
+          // plot-d6a7b5) puts into each figure and colour legend, allowed by their SHA-256 and
+          // nothing else. A new version of the library that changes them shows up as a
+          // violation in the browser suite, whose message gives the new hash.
+          styleSrc: [
+            "'self'",
+            "'sha256-jSYQUrW7J0b3jPqhZP9C2Xh1PyJKHKXd4s0fpGGKrww='",
+            "'sha256-/jg3HOQ97BIOLIR7iXhepLJanBbw11P39q1Ne1E+6Jc='",
+          ],
+          // style attributes in markup: none. React's style={…} and the plot library set
+          // styles through the CSSOM (element.style), which CSP does not govern.
+          styleSrcAttr: ["'none'"],
+          // data: for the favicon placeholder (href="data:,") and the plot library's colour
+          // ramp, which it draws on a canvas and embeds as a data: image
+          imgSrc: ["'self'", 'data:'],
+          // fontsource files are bundled into /assets
+          fontSrc: ["'self'"],
+          connectSrc: ["'self'"],
+          objectSrc: ["'none'"],
+          baseUri: ["'self'"],
+          formAction: ["'self'"],
+          frameAncestors: ["'none'"],
+          upgradeInsecureRequests: s.publicUrl.startsWith('https:') ? [] : null,
+        },
       },
     }),
   );

@@ -328,6 +328,13 @@ describe.each(ENGINES)('security on %s', (engine) => {
     const r = await t.http.get('/api/health');
     expect(r.headers['x-content-type-options']).toBe('nosniff');
     expect(r.headers['x-powered-by']).toBeUndefined();
-    expect(r.headers['content-security-policy']).toMatch(/frame-ancestors 'self'/);
+    const csp = r.headers['content-security-policy'];
+    // strict and explicit (server/app.ts): nothing inline, nothing from elsewhere, no framing
+    expect(csp).toMatch(/frame-ancestors 'none'/);
+    expect(csp).toMatch(/script-src 'self'(;|$)/);
+    expect(csp).toMatch(/script-src-attr 'none'/);
+    expect(csp).toMatch(/object-src 'none'/);
+    expect(csp).not.toMatch(/unsafe-inline|unsafe-eval/);
+    expect(r.headers['x-frame-options']).toBe('DENY');
   });
 });

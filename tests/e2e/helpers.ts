@@ -51,18 +51,17 @@ async function cli(args: string[], env?: Record<string, string>): Promise<string
   return r.stdout;
 }
 
-/** The web app built into DIR (dist/web stays as it is). */
+/**
+ * The web app built into DIR (dist/web stays as it is), as `npm run build` builds it: the test
+ * runner's NODE_ENV=test would otherwise give a development build of React and its peers.
+ */
 async function buildWeb(outDir: string): Promise<void> {
   const vite = join(ROOT, 'node_modules/vite/bin/vite.js');
-  const r = await run(process.execPath, [
-    vite,
-    'build',
-    '--outDir',
-    outDir,
-    '--emptyOutDir',
-    '--logLevel',
-    'warn',
-  ]);
+  const r = await run(
+    process.execPath,
+    [vite, 'build', '--outDir', outDir, '--emptyOutDir', '--logLevel', 'warn'],
+    { ...process.env, NODE_ENV: 'production' },
+  );
   if (r.code !== 0) throw new Error(`vite build failed (${r.code}): ${r.stderr}`);
 }
 
@@ -233,14 +232,120 @@ export function launchChromium(): Promise<Browser> {
   return chromium.launch({ executablePath: CHROMIUM, headless: true, args: ['--no-sandbox'] });
 }
 
-/** A fresh browser context (its own cookies) and page, 1280×900; waits give up after 15 s. */
+/** One Content-Security-Policy violation as the page's `securitypolicyviolation` event saw it. */
+interface CspEvent {
+  /** unique per document and event */
+  id: string;
+  url: string;
+  directive: string;
+  blocked: string;
+  source: string;
+  line: number;
+  sample: string;
+}
+
+/** What each page has reported and no check has read yet, kept in the test process. */
+const cspSeen = new Map<
+  Page,
+  { events: Map<string, CspEvent>; logged: string[]; reported: Set<string> }
+>();
+
+function cspRecord(page: Page) {
+  let r = cspSeen.get(page);
+  if (!r) cspSeen.set(page, (r = { events: new Map(), logged: [], reported: new Set() }));
+  return r;
+}
+
+function cspEvent(page: Page, v: CspEvent) {
+  const r = cspRecord(page);
+  if (!r.reported.has(v.id)) r.events.set(v.id, v);
+}
+
+/**
+ * A fresh browser context (its own cookies) and page, 1280×900; waits give up after 15 s.
+ * Every Content-Security-Policy violation is recorded. The init script, injected through the
+ * debugging protocol before the page's own script (so the policy does not apply to it), keeps
+ * each `securitypolicyviolation` event on window (window.__cspViolations) and hands it to the
+ * test process, so that violations of a document left by navigation are kept too; Chromium's
+ * console errors naming the policy (with the hash it would have needed) are kept as well.
+ * cspViolations() and unreadCspViolations() read them.
+ */
 export async function freshPage(
   browser: Browser,
 ): Promise<{ context: BrowserContext; page: Page }> {
   const context = await browser.newContext({ viewport: VIEWPORT });
   context.setDefaultTimeout(15_000);
+  await context.exposeBinding('__sightlineCsp', ({ page }, v: CspEvent) => {
+    cspEvent(page, v);
+  });
+  await context.addInitScript(() => {
+    const w = window as unknown as {
+      __cspViolations: CspEvent[];
+      __sightlineCsp?: (v: CspEvent) => Promise<void>;
+    };
+    const seen: CspEvent[] = [];
+    w.__cspViolations = seen;
+    let n = 0;
+    document.addEventListener('securitypolicyviolation', (e) => {
+      const v = {
+        id: `${performance.timeOrigin}:${n++}`,
+        url: location.href,
+        directive: e.effectiveDirective,
+        blocked: e.blockedURI,
+        source: e.sourceFile,
+        line: e.lineNumber,
+        sample: e.sample,
+      };
+      seen.push(v);
+      void w.__sightlineCsp?.(v);
+    });
+  });
   const page = await context.newPage();
+  cspRecord(page);
+  page.on('console', (m) => {
+    if (m.type() === 'error' && /Content Security Policy/i.test(m.text()))
+      cspRecord(page).logged.push(`${page.url()}: console: ${m.text()}`);
+  });
   return { context, page };
+}
+
+/** One line per violation; clears what it reports. */
+function drainCsp(page: Page): string[] {
+  const r = cspSeen.get(page);
+  if (!r) return [];
+  const out = [
+    ...[...r.events.values()].map(
+      (v) =>
+        `${v.url}: ${v.directive} refused ${v.blocked || '(inline)'} at ${v.source}:${v.line}${v.sample ? ` "${v.sample}"` : ''}`,
+    ),
+    ...r.logged,
+  ];
+  for (const id of r.events.keys()) r.reported.add(id);
+  r.events.clear();
+  r.logged.length = 0;
+  return out;
+}
+
+/** Policy violations on PAGE since the last call (or since it opened), one line each; clears them. */
+export async function cspViolations(page: Page): Promise<string[]> {
+  // the page's own list too (emptied as read), in case a hand-over has not arrived yet
+  if (!page.isClosed())
+    for (const v of await page.evaluate(
+      () =>
+        (window as unknown as { __cspViolations?: CspEvent[] }).__cspViolations?.splice(0) ?? [],
+    ))
+      cspEvent(page, v);
+  return drainCsp(page);
+}
+
+/**
+ * Policy violations of every page opened so far that no screen check has read (screens
+ * photographed without a check, pages already closed); clears them.
+ */
+export function unreadCspViolations(): string[] {
+  const out = [...cspSeen.keys()].flatMap(drainCsp);
+  for (const page of cspSeen.keys()) if (page.isClosed()) cspSeen.delete(page);
+  return out;
 }
 
 /** Sign in through the form on the current page (which must be the sign-in page). */

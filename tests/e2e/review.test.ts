@@ -1,14 +1,17 @@
 // The review app in a real browser (Debian's Chromium through playwright-core) against a real
 // server: an analyst uploads arrival times and submits the DM series, the lead approves it, a
 // viewer reads it, two runs are compared, the admin makes and revokes a token, and an expired
-// session comes back where it was. Every screen is photographed (dist/e2e-screenshots/) and
-// checked with axe-core: no violation rated serious or critical.
+// session comes back where it was; SQL, HTML and script payloads in a run's title and a comment
+// stay text. Every screen is photographed (dist/e2e-screenshots/) and checked with axe-core (no
+// violation rated serious or critical) and against the server's Content-Security-Policy (no
+// violation at all, on any page).
 import { readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import type { Browser, Page } from 'playwright-core';
 import {
   chromiumAvailable,
+  cspViolations,
   describeProblems,
   errorNotices,
   fillSignIn,
@@ -19,6 +22,7 @@ import {
   startReviewWorld,
   statusTexts,
   step,
+  unreadCspViolations,
   type ReviewWorld,
 } from './helpers.js';
 import { sightlineAsync, tempDir } from '../helpers/cli.js';
@@ -47,13 +51,24 @@ describe.skipIf(!chromiumAvailable)('the review app in Chromium', () => {
     await world?.close();
   });
 
+  // violations that no screen check read (a screenshot without look(), a document left by
+  // navigation before its check, a page closed since) fail the flow here
+  afterEach(() => {
+    const left = unreadCspViolations();
+    expect(left, `Content-Security-Policy violations:\n${left.join('\n')}`).toEqual([]);
+  });
+
   /**
-   * A screen photographed, checked for error notices and checked with axe; problems are
-   * printed and fail the test at its end (the flow goes on, so one run reports every screen).
+   * A screen photographed, checked for error notices, for Content-Security-Policy violations
+   * (since the page's last check) and with axe; problems are printed and fail the test at its
+   * end (the flow goes on, so one run reports every screen).
    */
   async function look(page: Page, flow: string, screen: string) {
     await screenshot(page, flow, screen);
     expect.soft(await errorNotices(page), `error notices on ${screen}`).toEqual([]);
+    const csp = await cspViolations(page);
+    if (csp.length) console.error(`CSP violations on ${screen}:\n${csp.join('\n')}`);
+    expect.soft(csp, `Content-Security-Policy violations on ${screen}`).toEqual([]);
     const problems = await seriousViolations(page, screen);
     if (problems.length)
       console.error(`accessibility problems on ${screen}:\n${describeProblems(problems)}`);
@@ -486,6 +501,98 @@ describe.skipIf(!chromiumAvailable)('the review app in Chromium', () => {
       } finally {
         await context.close();
         cleanup();
+      }
+    },
+    FLOW_MS,
+  );
+
+  it(
+    'g. SQL, HTML and script in a title and a comment stay text',
+    async () => {
+      const flow = 'g-injection';
+      // payloads after OWASP's SQL injection and XSS prevention cheat sheets (common practice):
+      // a quote that ends a SQL string, markup with event handlers, a script element, and
+      // template syntax of client-side frameworks
+      const title =
+        'Robert\'); DROP TABLE runs;-- <img src=x onerror="window.__pwned=1"><script>window.__pwned=2</script> {{7*7}} ${7*7}';
+      const comment =
+        '\'; DELETE FROM reviews WHERE \'1\'=\'1 <svg onload="window.__pwned=3"></svg><iframe src="javascript:window.__pwned=4"></iframe> </p><b>bold?</b> &amp; {{7*7}}';
+      // Ana's DM-per-visit fit of SBP-B: its page also draws the colour legend whose <style>
+      // block the policy allows by hash
+      const source = world!.pushed.find((r) => r.pulsar === 'SBP-B' && r.kind === 'dm-fit')!;
+      const { context, page } = await signedIn(ANALYST, '/');
+      /** a request from the page, as the signed-in analyst (her session cookie) */
+      const api = (path: string, body?: unknown) =>
+        page.evaluate(
+          async ({ path, body }) => {
+            const res = await fetch(
+              path,
+              body === undefined
+                ? {}
+                : {
+                    method: 'POST',
+                    headers: { 'Content-Type': 'application/json' },
+                    body: JSON.stringify(body),
+                  },
+            );
+            return { status: res.status, text: await res.text() };
+          },
+          { path, body },
+        );
+      /** what the payloads would leave behind had the page read them as markup */
+      const traces = () =>
+        page.evaluate(() => ({
+          pwned: (window as unknown as { __pwned?: unknown }).__pwned,
+          elements: document.querySelectorAll('img[src="x"], svg[onload], iframe, [onerror]')
+            .length,
+          scripts: [...document.scripts].filter((e) => e.textContent.includes('__pwned')).length,
+          bold: [...document.querySelectorAll('b')].filter((e) => e.textContent === 'bold?').length,
+        }));
+      const none = { pwned: undefined, elements: 0, scripts: 0, bold: 0 };
+      try {
+        const id = await step('push a run with the payload title and comment on it', async () => {
+          const got = await api(`/api/runs/${source.id}`);
+          expect(got.status).toBe(200);
+          const { result } = JSON.parse(got.text) as { result: unknown };
+          const made = await api('/api/runs', { result, title });
+          expect(made.status, made.text).toBe(201);
+          const runId = (JSON.parse(made.text) as { id: string }).id;
+          const said = await api(`/api/runs/${runId}/reviews`, { decision: 'comment', comment });
+          expect(said.status, said.text).toBe(201);
+          return runId;
+        });
+        await step('the API returns both byte for byte', async () => {
+          const got = await api(`/api/runs/${id}`);
+          expect(got.status).toBe(200);
+          // as JSON strings, not HTML-escaped on the way in or out
+          expect(got.text).toContain(JSON.stringify(title));
+          const run = JSON.parse(got.text) as { title: string; reviews: { comment: string }[] };
+          expect(Buffer.from(run.title).equals(Buffer.from(title))).toBe(true);
+          expect(run.reviews.map((r) => r.comment)).toEqual([comment]);
+        });
+        await step('run page shows them as text', async () => {
+          await page.goto(`${world!.url}/runs/${id}`);
+          await runHeading(page, 'SBP-B', 'DM per visit').waitFor();
+          await page.getByText(title, { exact: true }).first().waitFor();
+          await page.getByText(comment, { exact: true }).first().waitFor();
+          expect(await traces()).toEqual(none);
+          await look(page, flow, 'run');
+        });
+        await step('runs table shows the title as text and still lists every run', async () => {
+          await page.goto(`${world!.url}/runs`);
+          const table = page.getByRole('table');
+          await table.getByText(title, { exact: true }).waitFor();
+          await table.getByRole('link', { name: /SBP-B/ }).first().waitFor();
+          expect(await traces()).toEqual(none);
+          await look(page, flow, 'runs');
+          // the quote in the title ended no SQL string: the runs (and the reviews) are all there
+          const list = await api('/api/runs?page_size=200');
+          expect(list.status).toBe(200);
+          const ids = (JSON.parse(list.text) as { items: { id: string }[] }).items.map((r) => r.id);
+          expect(ids).toEqual(expect.arrayContaining([id, ...world!.pushed.map((r) => r.id)]));
+        });
+      } finally {
+        await context.close();
       }
     },
     FLOW_MS,
