@@ -4,9 +4,7 @@
 import { existsSync, mkdirSync, readdirSync, readFileSync, rmSync, statSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
 import path from 'node:path';
-import { parse as parseYaml, YAMLParseError } from 'yaml';
 import {
-  batchManifestSchema,
   PATH_OPTIONS,
   pendingPushSchema,
   type BatchAnalysis,
@@ -20,6 +18,7 @@ import { formatOf, note, type CommonOptions } from '../common.js';
 import { CliError, EXIT, checkFailed, classify, ioFailure, usageError } from '../errors.js';
 import { apiClient, type ApiClient, type ServerOptions } from '../io/api.js';
 import { writeFileAtomic, writeOutput } from '../io/output.js';
+import { readManifest } from '../io/read-manifest.js';
 import { readResult } from '../io/read-result.js';
 import { csv, json, table } from '../render.js';
 import type { BatchReply, BatchTask } from './batch-worker.js';
@@ -44,56 +43,6 @@ export interface PlannedJob {
   optionFiles: string[];
   /** the result's file name inside OUT */
   outName: string;
-}
-
-/** zod's path as a JSON path: jobs[2].options.gap */
-function jsonPath(p: readonly PropertyKey[]): string {
-  return (
-    p.reduce<string>(
-      (s, k) => (typeof k === 'number' ? `${s}[${k}]` : s ? `${s}.${String(k)}` : String(k)),
-      '',
-    ) || '(top)'
-  );
-}
-
-export function readManifest(file: string): BatchManifest {
-  let text: string;
-  try {
-    text = readFileSync(file, 'utf8');
-  } catch (e) {
-    throw e instanceof Error && (e as NodeJS.ErrnoException).code === 'ENOENT'
-      ? usageError(`${file}: no such manifest`)
-      : e;
-  }
-  let raw: unknown;
-  if (/\.ya?ml$/i.test(file)) {
-    try {
-      raw = parseYaml(text);
-    } catch (e) {
-      if (e instanceof YAMLParseError) {
-        const at = e.linePos?.[0];
-        throw usageError(
-          `${file}${at ? `:${at.line}:${at.col}` : ''}: not valid YAML (${e.message.split('\n')[0]})`,
-        );
-      }
-      throw e;
-    }
-  } else {
-    try {
-      raw = JSON.parse(text);
-    } catch (e) {
-      throw usageError(`${file}: not valid JSON (${(e as Error).message})`);
-    }
-  }
-  const parsed = batchManifestSchema.safeParse(raw);
-  if (!parsed.success) {
-    const issues = parsed.error.issues;
-    const first = issues.slice(0, 3).map((i) => `${jsonPath(i.path)}: ${i.message}`);
-    throw usageError(
-      `${file}: invalid manifest: ${first.join('; ')}${issues.length > 3 ? ` (+${issues.length - 3} more)` : ''}`,
-    );
-  }
-  return parsed.data;
 }
 
 const stemOf = (file: string) => {
