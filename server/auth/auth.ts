@@ -86,7 +86,7 @@ export function createAuth(o: AuthOptions) {
         // every token expires (a year unless asked otherwise, at most two years); scopes are
         // better-auth permissions { sightline: [...] } (server/auth/middleware.ts enforces them)
         keyExpiration: {
-          defaultExpiresIn: TOKEN_DAYS.default * 86_400_000,
+          defaultExpiresIn: TOKEN_DAYS.default * 86_400, // seconds (min/max are days)
           minExpiresIn: TOKEN_DAYS.min,
           maxExpiresIn: TOKEN_DAYS.max,
         },

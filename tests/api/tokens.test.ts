@@ -384,4 +384,19 @@ describe.each(ENGINES)('API tokens on %s', (engine) => {
     expect(r.status).toBe(401);
     expect(r.body.error.code).toBe('invalid_token');
   });
+
+  it('a token made without a lifetime (as the demo seed makes them) also expires in a year', async () => {
+    // the library counts defaultExpiresIn in seconds: a value in milliseconds once gave the
+    // demo tokens a lifetime of about a thousand years
+    const made = await t.running.services.auth.api.createApiKey({
+      body: { name: 'seeded', userId: t.people.rob.id },
+    });
+    const [row] = await t.running.services.db
+      .select({ expiresAt: apikey.expiresAt })
+      .from(apikey)
+      .where(eq(apikey.id, made.id));
+    const days = (row.expiresAt!.getTime() - Date.now()) / 86_400_000;
+    expect(days).toBeGreaterThan(364.99);
+    expect(days).toBeLessThan(365.01);
+  });
 });
