@@ -5,7 +5,9 @@ import type { SeedOptions } from '../run/demo-seed.js';
 
 export function demoCommand(): Command {
   const generate = new Command('generate')
-    .description("write the demo observatory's six invented pulsars from the seeded simulator")
+    .description(
+      "write the demo observatory's six invented pulsars from the seeded simulator, with a batch manifest over all of it (DIR/batch.yaml)",
+    )
     .requiredOption('--out <dir>', 'folder to write')
     .option(
       '--seed <n>',
@@ -17,7 +19,10 @@ export function demoCommand(): Command {
     )
     .option('--force', 'replace the folder if it is not empty')
     .option('--quiet', 'print nothing')
-    .addHelpText('after', '\nExample:\n  sightline demo generate --out demo-data --seed 1')
+    .addHelpText(
+      'after',
+      '\nExamples:\n  sightline demo generate --out demo-data --seed 1\n  sightline batch demo-data/batch.yaml --jobs 4   # every analysis, results in demo-data/batch-results',
+    )
     .action(async (o: DemoOptions) => (await import('../run/demo.js')).runDemo(o));
   const seed = new Command('seed')
     .description(

@@ -1,5 +1,17 @@
-import { createWriteStream, renameSync, rmSync, statSync } from 'node:fs';
+import { randomBytes } from 'node:crypto';
+import {
+  closeSync,
+  createWriteStream,
+  openSync,
+  readSync,
+  renameSync,
+  rmSync,
+  statSync,
+  writeSync,
+} from 'node:fs';
+import { tmpdir } from 'node:os';
 import { basename, dirname, join } from 'node:path';
+import { StringDecoder } from 'node:string_decoder';
 import { ioFailure } from '../errors.js';
 
 /**
@@ -108,5 +120,78 @@ export async function writeFileAtomic(path: string, data: Uint8Array | string): 
   } catch (e) {
     rmSync(temp, { force: true });
     throw ioFailure(`${path}: ${(e as Error).message}`);
+  }
+}
+
+/**
+ * Lines kept in a temporary file instead of memory (the visits of a large DM fit): `push`
+ * appends a line (it must not contain a line break; JSON.stringify text never does), `lines`
+ * reads them back in order, `remove` deletes the file (also done when the process exits).
+ */
+export class LineSpill {
+  private readonly path: string;
+  private fd: number | undefined;
+  private buffered: string[] = [];
+  private bufferedChars = 0;
+  private readonly cleanup = () => this.remove();
+
+  constructor(dir: string = tmpdir()) {
+    this.path = join(dir, `sightline-spill-${process.pid}-${randomBytes(6).toString('hex')}.txt`);
+    this.fd = openSync(this.path, 'wx', 0o600);
+    process.once('exit', this.cleanup);
+  }
+
+  push(line: string): void {
+    this.buffered.push(line);
+    this.bufferedChars += line.length + 1;
+    // written every ~128 kB, while the lines are young (cheap to collect)
+    if (this.bufferedChars > 1 << 17) this.flush();
+  }
+
+  private flush(): void {
+    if (this.fd === undefined) throw new Error('the spill file is closed');
+    if (this.buffered.length === 0) return;
+    const data = Buffer.from(this.buffered.join('\n') + '\n', 'utf8');
+    let done = 0;
+    while (done < data.length) done += writeSync(this.fd, data, done, data.length - done);
+    this.buffered = [];
+    this.bufferedChars = 0;
+  }
+
+  /** The lines pushed so far, in order, read back from the file a megabyte at a time. */
+  *lines(): Generator<string> {
+    this.flush();
+    const fd = openSync(this.path, 'r');
+    try {
+      const block = Buffer.alloc(1 << 20);
+      const decoder = new StringDecoder('utf8');
+      let rest = '';
+      let position = 0;
+      for (;;) {
+        const n = readSync(fd, block, 0, block.length, position);
+        if (n === 0) break;
+        position += n;
+        const text = rest + decoder.write(block.subarray(0, n));
+        let start = 0;
+        for (let nl = text.indexOf('\n'); nl >= 0; nl = text.indexOf('\n', start)) {
+          yield text.slice(start, nl);
+          start = nl + 1;
+        }
+        rest = text.slice(start);
+      }
+      rest += decoder.end();
+      if (rest.length) yield rest;
+    } finally {
+      closeSync(fd);
+    }
+  }
+
+  remove(): void {
+    if (this.fd !== undefined) {
+      closeSync(this.fd);
+      this.fd = undefined;
+    }
+    rmSync(this.path, { force: true });
+    process.removeListener('exit', this.cleanup);
   }
 }

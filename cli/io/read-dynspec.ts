@@ -2,9 +2,9 @@ import { createHash } from 'node:crypto';
 import { readFile } from 'node:fs/promises';
 import { basename } from 'node:path';
 import { parse as parseCsv } from 'csv-parse/sync';
-import { InputError } from '../../shared/formats/errors.js';
+import { InputError, quoteInput } from '../../shared/formats/errors.js';
 import { parseDecimal } from '../../shared/formats/numbers.js';
-import { readNpy, type NpyArray } from '../../shared/profiles/npy.js';
+import { formatShape, readNpy, type NpyArray } from '../../shared/profiles/npy.js';
 import { parseJsonText } from '../../shared/profiles/input.js';
 import {
   dynspecFromArray,
@@ -16,6 +16,12 @@ import {
 import type { InputFile } from '../../shared/schemas/common.js';
 
 const sha256 = (b: Uint8Array) => createHash('sha256').update(b).digest('hex');
+
+/**
+ * The most fields a line of a dynamic-spectrum CSV may have: it has three columns (freq_mhz,
+ * time_s, intensity), and room is left for others it ignores. A header of 10⁶ names is refused.
+ */
+export const DYNSPEC_CSV_MAX_FIELDS = 1024;
 const NPY_MAGIC = Buffer.from([0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59]);
 
 /** Parse and check a sidecar; its problems are reported against the sidecar file. */
@@ -73,7 +79,7 @@ export async function readDynspec(
     }
     if (arr.shape.length !== 2)
       throw new InputError(
-        `a dynamic spectrum must be 2-D [nchan, nsub]; this one has shape (${arr.shape.join(', ')})`,
+        `a dynamic spectrum must be 2-D [nchan, nsub]; this one has shape ${formatShape(arr.shape)}`,
         { file: name, column: 'shape' },
       );
     const [nchan, nsub] = arr.shape;
@@ -105,10 +111,31 @@ export async function readDynspec(
     input.push({ path: metaPath, sha256: sha256(metaBytes), rows: 1 });
   }
   let records: string[][];
+  /** the line on which each record ends (blank lines are skipped; a quoted field may span lines) */
+  const lineOf: number[] = [];
   try {
-    records = parseCsv(bytes, { bom: true, skip_empty_lines: true, relax_column_count: false });
+    records = parseCsv(bytes, {
+      bom: true,
+      skip_empty_lines: true,
+      relax_column_count: false,
+      on_record: (record: string[], info: { lines: number }) => {
+        if (record.length > DYNSPEC_CSV_MAX_FIELDS) {
+          throw new InputError(
+            `${record.length} fields on one line; a dynamic-spectrum CSV has the columns freq_mhz, time_s, intensity and may have at most ${DYNSPEC_CSV_MAX_FIELDS}`,
+            { file: name, line: info.lines },
+          );
+        }
+        lineOf.push(info.lines);
+        return record;
+      },
+    });
   } catch (e) {
-    throw new InputError(`not valid CSV (${(e as Error).message})`, { file: name });
+    if (e instanceof InputError) throw e;
+    const line = (e as { lines?: unknown }).lines;
+    throw new InputError(
+      `not valid CSV (${(e as Error).message})`,
+      typeof line === 'number' && line >= 1 ? { file: name, line } : { file: name },
+    );
   }
   if (records.length < 2) throw new InputError('no rows after the header', { file: name });
   const head = records[0].map((h) => h.trim());
@@ -134,10 +161,10 @@ export async function readDynspec(
       if (nanOk && (raw === '' || raw.toLowerCase() === 'nan')) return NaN;
       const v = parseDecimal(raw);
       if (v === undefined)
-        throw new InputError(`"${raw.slice(0, 40)}" is not a finite number`, {
+        throw new InputError(`${quoteInput(raw)} is not a finite number`, {
           file: name,
           row: r,
-          line: r + 1,
+          line: lineOf[r],
           column: c,
         });
       return v;
@@ -150,7 +177,13 @@ export async function readDynspec(
   try {
     ds = dynspecFromRows(freq, time, value, meta);
   } catch (e) {
-    throw e instanceof InputError ? e.inFile(name) : e;
+    if (!(e instanceof InputError)) throw e;
+    // a row number from the grid check: add the line it is on
+    const row = e.location.row;
+    const line = row !== undefined && e.location.column === 'freq_mhz' ? lineOf[row] : undefined;
+    throw line === undefined || e.location.line !== undefined
+      ? e.inFile(name)
+      : new InputError(e.reason, { ...e.location, file: name, line });
   }
   input.unshift({ path: name, sha256: sha256(bytes), rows: n });
   return { ds, input };

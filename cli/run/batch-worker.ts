@@ -1,8 +1,9 @@
 // Worker-thread entry of `sightline batch` (cli/run/batch.ts), bundled by cli/build.mjs to
 // dist/cli/batch-worker.js: one job per task — skip it when its result is up to date, else run
 // the very function the single command runs, check the result against its shared schema, write it
-// atomically with a sidecar that records what it was made from. Never throws: the reply is a
-// plain value that survives the structured clone back.
+// atomically with a sidecar that records what it was made from. `toas-correct` writes the
+// corrected table itself, in the input's own layout, as `toas correct --out` does. Never throws:
+// the reply is a plain value that survives the structured clone back.
 import { createHash } from 'node:crypto';
 import { existsSync, readFileSync } from 'node:fs';
 import { isDeepStrictEqual } from 'node:util';
@@ -24,6 +25,7 @@ import { refineCube, type RefineCliOptions } from './cubes.js';
 import { runDmFit, runDmSeries, type FitCliOptions, type SeriesCliOptions } from './dm.js';
 import { runScatter, type ScatterCliOptions } from './scatter.js';
 import { runScint, type ScintCliOptions } from './scint.js';
+import { runCorrect, type CorrectOptions } from './toas.js';
 
 export interface BatchTask {
   analysis: BatchAnalysis;
@@ -38,10 +40,17 @@ export interface BatchTask {
   force: boolean;
 }
 
-export type BatchReply =
-  { status: 'skipped' } | { status: 'done' } | { status: 'failed'; error: string; wrote: boolean };
+/** What became of a job; `result_sha256` is that of the result file on disk. */
+export type BatchOutcome =
+  | { status: 'skipped' | 'done'; result_sha256: string }
+  | { status: 'failed'; error: string; wrote: boolean };
 
-const RESULT_SCHEMAS: Record<BatchAnalysis, z.ZodType> = {
+/** `seconds`: the job's own time on the worker (not its wait in the queue). */
+export type BatchReply = BatchOutcome & { seconds: number };
+
+type JsonAnalysis = Exclude<BatchAnalysis, 'toas-correct'>;
+
+const RESULT_SCHEMAS: Record<JsonAnalysis, z.ZodType> = {
   'dm-fit': dmFitResultSchema,
   'dm-series': dmSeriesResultSchema,
   'scatter-fit': scatterFitResultSchema,
@@ -59,27 +68,32 @@ function hashIfThere(path: string): string | undefined {
   }
 }
 
-/** The result on disk was made from these very files and options, and its check passed. */
-function upToDate(task: BatchTask): boolean {
-  if (!existsSync(task.sidecarFile) || !existsSync(task.outFile)) return false;
+/**
+ * The result on disk was made from these very files and options, and its check passed: the
+ * result's SHA-256, else undefined.
+ */
+function upToDate(task: BatchTask): string | undefined {
+  if (!existsSync(task.sidecarFile) || !existsSync(task.outFile)) return undefined;
   let side: BatchSidecar;
   try {
     side = batchSidecarSchema.parse(JSON.parse(readFileSync(task.sidecarFile, 'utf8')));
   } catch {
-    return false;
+    return undefined;
   }
-  return (
+  const ok =
     side.status === 'done' &&
     side.analysis === task.analysis &&
     side.input === task.file &&
     isDeepStrictEqual(side.options, task.options) &&
     hashIfThere(task.outFile) === side.result_sha256 &&
     side.inputs.length > 0 &&
-    side.inputs.every((i) => hashIfThere(i.path) === i.sha256)
-  );
+    side.inputs.every((i) => hashIfThere(i.path) === i.sha256);
+  return ok ? side.result_sha256 : undefined;
 }
 
-async function compute(task: BatchTask): Promise<{ schema: string; input: unknown[] }> {
+async function compute(
+  task: BatchTask & { analysis: JsonAnalysis },
+): Promise<{ schema: string; input: unknown[] }> {
   const o = { ...task.options, quiet: true };
   switch (task.analysis) {
     case 'dm-fit':
@@ -97,7 +111,7 @@ async function compute(task: BatchTask): Promise<{ schema: string; input: unknow
 
 /** The checks after which each single command exits 1 (cli/run/*.ts), as a message or none. */
 function checkOf(
-  analysis: BatchAnalysis,
+  analysis: JsonAnalysis,
   result: unknown,
   options: Record<string, unknown>,
 ): string | undefined {
@@ -133,19 +147,88 @@ function checkOf(
   }
 }
 
-export async function runBatchTask(task: BatchTask): Promise<BatchReply> {
+/**
+ * The job's files, hashed before it runs: should one change while it runs, the sidecar holds the
+ * hash from before, and the next batch runs the job again instead of trusting the result. JSON
+ * results list their inputs with the hash as read, so there only the option files need it.
+ */
+function hashBefore(task: BatchTask, withInput: boolean): { path: string; sha256: string }[] {
+  return [...(withInput ? [task.file] : []), ...task.optionFiles].flatMap((f) => {
+    const h = hashIfThere(f);
+    return h ? [{ path: f, sha256: h }] : [];
+  });
+}
+
+/** Sidecar of a finished job: the files it read (as the result says it read them, else `before`). */
+function sidecarOf(
+  task: BatchTask,
+  resultSha256: string,
+  read: { path: string; sha256: string }[],
+  before: { path: string; sha256: string }[],
+  problem: string | undefined,
+): BatchSidecar {
+  const inputs = new Map<string, string>();
+  for (const i of read) inputs.set(i.path, i.sha256);
+  for (const i of before) if (!inputs.has(i.path)) inputs.set(i.path, i.sha256);
+  // a result that does not list its own input (none should): hashed now rather than not at all
+  const h = inputs.has(task.file) ? undefined : hashIfThere(task.file);
+  if (h) inputs.set(task.file, h);
+  return {
+    schema: 'sightline/batch-job@1',
+    analysis: task.analysis,
+    input: task.file,
+    options: task.options,
+    status: problem ? 'failed' : 'done',
+    ...(problem ? { error: problem } : {}),
+    result_sha256: resultSha256,
+    inputs: [...inputs].map(([path, hash]) => ({ path, sha256: hash })),
+  };
+}
+
+/** `toas correct FILE --series S --out OUT`: the corrected table, written atomically by the command. */
+async function correctTask(task: BatchTask): Promise<BatchOutcome> {
+  const o = task.options as { series: string; use: CorrectOptions['use']; extrapolate?: boolean };
+  const before = hashBefore(task, true);
   try {
-    if (!task.force && upToDate(task)) return { status: 'skipped' };
-  } catch {
-    // an unreadable earlier result is simply made again
-  }
-  let result: { schema: string; input: unknown[] };
-  try {
-    result = await compute(task);
+    await runCorrect(task.file, {
+      series: o.series,
+      use: o.use,
+      extrapolate: o.extrapolate,
+      out: task.outFile,
+      quiet: true,
+    });
   } catch (e) {
     return { status: 'failed', error: classify(e).message, wrote: false };
   }
-  const checked = RESULT_SCHEMAS[task.analysis].safeParse(result);
+  try {
+    const resultSha256 = sha256(readFileSync(task.outFile));
+    await writeFileAtomic(
+      task.sidecarFile,
+      json(sidecarOf(task, resultSha256, [], before, undefined)),
+    );
+    return { status: 'done', result_sha256: resultSha256 };
+  } catch (e) {
+    return { status: 'failed', error: classify(e).message, wrote: true };
+  }
+}
+
+async function runTask(task: BatchTask): Promise<BatchOutcome> {
+  try {
+    const sha = task.force ? undefined : upToDate(task);
+    if (sha) return { status: 'skipped', result_sha256: sha };
+  } catch {
+    // an unreadable earlier result is simply made again
+  }
+  if (task.analysis === 'toas-correct') return correctTask(task);
+  const jsonTask = task as BatchTask & { analysis: JsonAnalysis };
+  const before = hashBefore(task, false);
+  let result: { schema: string; input: unknown[] };
+  try {
+    result = await compute(jsonTask);
+  } catch (e) {
+    return { status: 'failed', error: classify(e).message, wrote: false };
+  }
+  const checked = RESULT_SCHEMAS[jsonTask.analysis].safeParse(result);
   if (!checked.success) {
     const issue = checked.error.issues[0];
     return {
@@ -154,34 +237,34 @@ export async function runBatchTask(task: BatchTask): Promise<BatchReply> {
       wrote: false,
     };
   }
-  const problem = checkOf(task.analysis, result, task.options);
+  const problem = checkOf(jsonTask.analysis, result, task.options);
+  let resultSha256: string;
   try {
     const text = json(result);
+    resultSha256 = sha256(text);
     // the result's inputs as it read them, and the files its options name
-    const inputs = new Map<string, string>();
-    for (const i of result.input as { path: string; sha256: string }[])
-      inputs.set(i.path, i.sha256);
-    for (const f of [task.file, ...task.optionFiles]) {
-      const h = inputs.has(f) ? undefined : hashIfThere(f);
-      if (h) inputs.set(f, h);
-    }
-    const sidecar: BatchSidecar = {
-      schema: 'sightline/batch-job@1',
-      analysis: task.analysis,
-      input: task.file,
-      options: task.options,
-      status: problem ? 'failed' : 'done',
-      ...(problem ? { error: problem } : {}),
-      result_sha256: sha256(text),
-      inputs: [...inputs].map(([path, hash]) => ({ path, sha256: hash })),
-    };
+    const sidecar = sidecarOf(
+      task,
+      resultSha256,
+      result.input as { path: string; sha256: string }[],
+      before,
+      problem,
+    );
     // the result first: a sidecar never vouches for a result that is not there
     await writeFileAtomic(task.outFile, text);
     await writeFileAtomic(task.sidecarFile, json(sidecar));
   } catch (e) {
     return { status: 'failed', error: classify(e).message, wrote: false };
   }
-  return problem ? { status: 'failed', error: problem, wrote: true } : { status: 'done' };
+  return problem
+    ? { status: 'failed', error: problem, wrote: true }
+    : { status: 'done', result_sha256: resultSha256 };
+}
+
+export async function runBatchTask(task: BatchTask): Promise<BatchReply> {
+  const started = performance.now();
+  const reply = await runTask(task);
+  return { ...reply, seconds: (performance.now() - started) / 1000 };
 }
 
 export default runBatchTask;

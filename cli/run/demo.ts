@@ -9,7 +9,7 @@ import {
 } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { stringify } from 'csv-stringify/sync';
-import { simulateDemo } from '../../shared/sim/demo.js';
+import { simulateDemo, type DemoDataSet } from '../../shared/sim/demo.js';
 import { writeNpy } from '../../shared/profiles/npy-write.js';
 import { DEMO_GROUP, DEMO_OBSERVATORY, RECEIVERS } from '../../shared/sim/scenario.js';
 import { SOFTWARE, withProgress, type CommonOptions } from '../common.js';
@@ -21,10 +21,88 @@ export interface DemoOptions extends CommonOptions {
   force?: boolean;
 }
 
+/** The demo's batch manifest, beside the data it reads (its paths are relative to it). */
+export const DEMO_MANIFEST = 'batch.yaml';
+/** where that manifest's results go, inside the demo folder */
+export const DEMO_BATCH_OUT = 'batch-results';
+
+/** Trial DMs around a catalogue DM: wide enough for the demo's DM wander and scattering bias. */
+function refineRange(dm: number): string {
+  const half = dm < 100 ? 0.04 : dm < 200 ? 0.08 : 0.16;
+  const step = half / 80;
+  // as few decimals as the step needs
+  let digits = 0;
+  while (digits < 6 && Math.abs(Math.round(step * 10 ** digits) - step * 10 ** digits) > 1e-9)
+    digits++;
+  return `${(dm - half).toFixed(digits)}:${(dm + half).toFixed(digits)}:${step.toFixed(digits)}`;
+}
+
+/**
+ * The batch manifest of the demo data set: every analysis `sightline batch` runs, over all six
+ * pulsars. SBP-D's scattering tails show only with the low receiver, so its visits observed
+ * without it give no τ(ν) law and are left out of the scattering fits (by name, from the data).
+ */
+export function demoManifest(data: DemoDataSet): string {
+  const low = RECEIVERS.find((r) => r.name === 'low')!;
+  const names = data.pulsars.map((p) => p.source);
+  const scattered = ['SBP-D', 'SBP-F'].filter((n) => names.includes(n));
+  const lowOnly = 'SBP-D';
+  const noLow = (data.sets[names.indexOf(lowOnly)]?.profiles ?? [])
+    .filter((prof) => !prof.freqs_mhz.some((f) => f >= low.loMhz && f <= low.hiMhz))
+    .map((prof) => `profiles/${lowOnly}/${lowOnly}_${prof.mjd}.npy`);
+  const tails = 'SBP-F';
+  const others = names.filter((n) => n !== tails);
+  const set = (list: string[]) => (list.length === 1 ? list[0] : `{${list.join(',')}}`);
+  const lines = [
+    '# Batch manifest of the fictional demo data set, written by `sightline demo generate`.',
+    '#   sightline batch batch.yaml --jobs 4        (paths are relative to this file)',
+    '# Every analysis over all six pulsars; a second run skips what is up to date. In file',
+    '# options {out} is the results folder and {stem} the input name without its extension:',
+    "# a job that reads another job's result runs after it.",
+    `out: ${DEMO_BATCH_OUT}`,
+    'jobs:',
+    "  # DM per visit from each pulsar's timing residuals",
+    '  - analysis: dm-fit',
+    '    input: toas/*.csv',
+    '  # DM and scattering together (chromatic fit) for the scattered pulsars',
+    '  - name: chromatic',
+    '    analysis: dm-fit',
+    `    input: toas/${set(scattered)}.csv`,
+    '    options: { scatter: free }',
+    `  # DM series, smoothed, with the solar wind (N0 = ${data.solarN0} cm^-3) taken out`,
+    '  - analysis: dm-series',
+    '    input: toas/*.csv',
+    `    options: { smooth: gp, solar: ${data.solarN0}, positions: pulsars.json }`,
+    "  # arrival times corrected with each pulsar's own DM series",
+    '  - analysis: toas-correct',
+    '    input: toas/*.csv',
+    "    options: { series: '{out}/{stem}.dm-series.json' }",
+    `  # τ per band and the τ(ν) law where tails show; ${lowOnly}'s only with the low receiver`,
+    '  - analysis: scatter-fit',
+    `    input: profiles/${set(scattered)}/*.npy`,
+    ...(noLow.length ? ['    exclude:', ...noLow.map((f) => `      - ${f}`)] : []),
+    `  # scintillation of every visit; ${tails}'s beside τ from its profile tails`,
+    '  - analysis: scint',
+    `    input: dynspec/${set(others)}/*.npy`,
+    '  - analysis: scint',
+    `    input: dynspec/${tails}/*.npy`,
+    "    options: { tails: '{out}/{stem}.scatter-fit.json' }",
+    '  # DM by S/N over trial DMs around the catalogue DM, every profile cube',
+    ...data.pulsars.flatMap((p) => [
+      '  - name: refine',
+      '    analysis: dm-refine',
+      `    input: cubes/${p.source}/*.npy`,
+      `    options: { range: '${refineRange(p.dm)}' }`,
+    ]),
+  ];
+  return lines.join('\n') + '\n';
+}
+
 /**
  * Write the fictional demo data set (demo-scenario handout) from the seeded simulator: the
- * catalogue, one residual table per pulsar and the injected truth. Written into a temporary
- * folder and renamed into place, so a failure leaves nothing half-made.
+ * catalogue, one residual table per pulsar, the injected truth, profiles, cubes, dynamic spectra
+ * and a batch manifest over all of it. Written into a temporary folder and renamed into place,
+ * so a failure leaves nothing half-made.
  */
 export function writeDemo(dir: string, seed: number, force = false): string[] {
   const target = resolve(dir);
@@ -121,6 +199,7 @@ export function writeDemo(dir: string, seed: number, force = false): string[] {
     );
     put(`truth/${name}.json`, JSON.stringify(set.truth, null, 1) + '\n');
   });
+  put(DEMO_MANIFEST, demoManifest(data));
   rmSync(target, { recursive: true, force: true });
   mkdirSync(dirname(target), { recursive: true });
   renameSync(temp, target);
@@ -142,6 +221,8 @@ function isDemoFolder(folder: string): boolean {
       'cubes',
       'dynspec',
       'results',
+      DEMO_MANIFEST,
+      DEMO_BATCH_OUT,
     ]);
     return (
       catalogue.generated_by?.name === 'sightline' &&

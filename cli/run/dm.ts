@@ -1,8 +1,9 @@
 import { readFileSync } from 'node:fs';
-import { fitDmVisits, type DmFitOptions } from '../../shared/fit/dm-fit.js';
+import { stringify } from 'csv-stringify/sync';
+import { forEachDmVisit, type DmFitOptions, type VisitFit } from '../../shared/fit/dm-fit.js';
 import { dmFitResultSchema, type DmFitResult } from '../../shared/schemas/dm-fit.js';
 import { dmSeriesResultSchema, type DmSeriesResult } from '../../shared/schemas/dm-series.js';
-import { buildDmSeries, type Position } from '../../shared/series/dm-series.js';
+import { buildDmSeries, type Position, type SeriesVisit } from '../../shared/series/dm-series.js';
 import { SOLAR_MODEL } from '../../shared/solar/solar-wind.js';
 import { InputError } from '../../shared/formats/errors.js';
 import {
@@ -16,9 +17,15 @@ import {
 } from '../common.js';
 import { checkFailed, usageError } from '../errors.js';
 import { readToaTable } from '../io/read-toas.js';
-import { writeOutput } from '../io/output.js';
-import { dmFitRows, seriesRows } from '../../shared/review/rows.js';
-import { csv, fmt, json, jsonChunks, table } from '../render.js';
+import { LineSpill, writeOutput } from '../io/output.js';
+import {
+  CHROMATIC_COLUMNS,
+  dmFitRows,
+  FIT_COLUMNS,
+  seriesRows,
+  type Cell,
+} from '../../shared/review/rows.js';
+import { csv, fmt, jsonChunks, table } from '../render.js';
 
 export interface FitCliOptions extends CommonOptions {
   gap?: number;
@@ -61,23 +68,42 @@ function fitOptions(o: FitCliOptions): DmFitOptions {
   };
 }
 
-export async function runDmFit(file: string, o: FitCliOptions): Promise<DmFitResult> {
+/** A fit result without its visits: what is known once every visit has been handed on. */
+export type DmFitHead = Omit<DmFitResult, 'visits'>;
+
+/**
+ * Read the table and fit its visits, handing each visit to `onVisit` as it is made (in memory
+ * for `runDmFit`; to a temporary file for `dm fit`, whose visits can outnumber memory). The
+ * table is let go when this returns.
+ */
+async function fitEachVisit(
+  file: string,
+  o: FitCliOptions,
+  onVisit: (v: VisitFit) => void,
+): Promise<DmFitHead> {
   const opts = fitOptions(o);
   const name = o.inputName ?? file;
   const { table: t, summary } = await withProgress(o, `reading ${name}`, () =>
     readToaTable(file, name),
   );
-  const visits = await withProgress(o, `fitting ${t.length} arrival times`, async () => {
+  let nVisits = 0;
+  let fitted = 0;
+  let warnings = 0;
+  await withProgress(o, `fitting ${t.length} arrival times`, async () => {
     try {
-      return fitDmVisits(t, opts);
+      forEachDmVisit(t, opts, (v) => {
+        nVisits++;
+        if (v.status === 'fitted') fitted++;
+        warnings += v.warnings.length;
+        onVisit(v);
+      });
     } catch (e) {
       throw e instanceof InputError ? e.inFile(name) : e;
     }
   });
-  const fitted = visits.filter((v) => v.status === 'fitted').length;
   // typed by the shared schema; the tests validate outputs with it (a zod pass here would copy
   // 10⁵ visits for nothing)
-  const result: DmFitResult = {
+  return {
     schema: 'sightline/dm-fit@1',
     software: SOFTWARE,
     created_utc: new Date().toISOString(),
@@ -103,14 +129,72 @@ export async function runDmFit(file: string, o: FitCliOptions): Promise<DmFitRes
     input: [{ path: name, sha256: summary.sha256, rows: summary.rows }],
     cautions: [CAUTION],
     summary: {
-      n_visits: visits.length,
+      n_visits: nVisits,
       n_fitted: fitted,
-      n_unconstrained: visits.length - fitted,
-      n_warnings: visits.reduce((s, v) => s + v.warnings.length, 0),
+      n_unconstrained: nVisits - fitted,
+      n_warnings: warnings,
     },
-    visits,
   };
-  return result;
+}
+
+export async function runDmFit(file: string, o: FitCliOptions): Promise<DmFitResult> {
+  const visits: VisitFit[] = [];
+  const head = await fitEachVisit(file, o, (v) => visits.push(v));
+  return { ...head, visits };
+}
+
+/**
+ * `--json` of a fit whose visits (JSON text, one per line) come from a spill file: the layout
+ * of render.ts `jsonChunks` for the whole result, piece by piece.
+ */
+function* fitJsonChunks(head: DmFitHead, visits: Iterable<string>): Generator<string> {
+  const pieces = [...jsonChunks(head)];
+  const close = pieces.pop()!;
+  yield* pieces;
+  let block = ',\n  "visits": [';
+  let n = 0;
+  for (const v of visits) {
+    block += (n++ ? ',\n    ' : '\n    ') + v;
+    if (block.length > 1 << 16) {
+      yield block;
+      block = '';
+    }
+  }
+  yield n ? block + '\n  ]' : block + ']';
+  yield close;
+}
+
+const FIT_CSV_COLUMNS = [...FIT_COLUMNS, ...CHROMATIC_COLUMNS];
+
+/**
+ * The cells of a visit's `--format csv` row (shared/review/rows.ts `dmFitRows`, through
+ * render.ts `csv`) for every column, chromatic ones included, as JSON text: numbers JSON cannot
+ * hold (NaN, ±Infinity) as the text csv-stringify prints for them.
+ */
+function csvCellsJson(v: VisitFit): string {
+  return JSON.stringify(
+    FIT_CSV_COLUMNS.map((c) => {
+      const x = v[c as keyof VisitFit];
+      if (Array.isArray(x)) return x.join(';');
+      if (x === null || x === undefined) return '';
+      return typeof x === 'number' && !Number.isFinite(x) ? String(x) : x;
+    }),
+  );
+}
+
+/** `--format csv` of a fit from its spilled rows: the chromatic columns only when used. */
+function* fitCsvChunks(chromatic: boolean, rows: Iterable<string>): Generator<string> {
+  const width = chromatic ? FIT_CSV_COLUMNS.length : FIT_COLUMNS.length;
+  yield csv(FIT_CSV_COLUMNS.slice(0, width), []);
+  let batch: Cell[][] = [];
+  for (const line of rows) {
+    batch.push((JSON.parse(line) as Cell[]).slice(0, width));
+    if (batch.length === 4096) {
+      yield stringify(batch);
+      batch = [];
+    }
+  }
+  if (batch.length) yield stringify(batch);
 }
 
 function renderFit(r: DmFitResult, format: string): string | Iterable<string> {
@@ -180,7 +264,7 @@ function renderFit(r: DmFitResult, format: string): string | Iterable<string> {
   return text;
 }
 
-function exitForFit(r: DmFitResult, strict: boolean | undefined): void {
+function exitForFit(r: Pick<DmFitResult, 'summary'>, strict: boolean | undefined): void {
   if (r.summary.n_fitted === 0)
     throw checkFailed('no visit could be fitted (every visit is unconstrained)');
   if (strict && r.summary.n_unconstrained > 0) {
@@ -235,10 +319,38 @@ function readPositions(o: SeriesCliOptions, sources: string[]): Map<string, Posi
   return map.size ? map : undefined;
 }
 
-async function loadFit(file: string, o: SeriesCliOptions): Promise<DmFitResult> {
+/** What a DM series needs of a fit: its envelope, and of each visit the fields the series reads. */
+type FitForSeries = DmFitHead & { visits: SeriesVisit[] };
+
+/** The fields of a visit `buildDmSeries` reads (all a 10⁶-visit series keeps of each fit). */
+function seriesVisit(v: VisitFit): SeriesVisit {
+  return {
+    source: v.source,
+    mjd: v.mjd,
+    mjd_first: v.mjd_first,
+    mjd_last: v.mjd_last,
+    status: v.status,
+    dm: v.dm,
+    dm_err_scaled: v.dm_err_scaled,
+    dm_kind: v.dm_kind,
+    n_toas: v.n_toas,
+  };
+}
+
+async function loadFit(file: string, o: SeriesCliOptions): Promise<FitForSeries> {
   const name = o.inputName ?? file;
   if (name.toLowerCase().endsWith('.json')) {
-    const text = readFileSync(file, 'utf8');
+    let text: string;
+    try {
+      text = readFileSync(file, 'utf8');
+    } catch (e) {
+      if ((e as NodeJS.ErrnoException).code !== 'ERR_STRING_TOO_LONG') throw e;
+      // JSON is read as one text, and a JavaScript string holds at most 2²⁹ − 24 characters
+      throw new InputError(
+        'too large to read as one JSON text: give dm series the arrival-time table instead',
+        { file: name },
+      );
+    }
     if (text.includes('"sightline/dm-fit@1"')) {
       // the fit is already made: options that would change it must not be silently ignored
       const given = (
@@ -273,7 +385,9 @@ async function loadFit(file: string, o: SeriesCliOptions): Promise<DmFitResult> 
       return parsed.data;
     }
   }
-  return runDmFit(file, o);
+  const visits: SeriesVisit[] = [];
+  const head = await fitEachVisit(file, o, (v) => visits.push(seriesVisit(v)));
+  return { ...head, visits };
 }
 
 export async function runDmSeries(file: string, o: SeriesCliOptions): Promise<DmSeriesResult> {
@@ -313,12 +427,22 @@ export async function runDmSeries(file: string, o: SeriesCliOptions): Promise<Dm
   });
 }
 
-function renderSeries(r: DmSeriesResult, format: string): string {
-  if (format === 'json') return json(r);
-  if (format === 'csv') {
-    const { head, rows } = seriesRows(r);
-    return csv(head, rows);
-  }
+/** `--format csv` of a series in pieces (render.ts `csv` of all rows, a few thousand at a time). */
+function* seriesCsvChunks(r: DmSeriesResult): Generator<string> {
+  const { head, rows } = seriesRows(r);
+  yield csv(head, []);
+  for (let i = 0; i < rows.length; i += 4096)
+    yield stringify(
+      rows
+        .slice(i, i + 4096)
+        .map((row) => row.map((c) => (c === null || c === undefined ? '' : c))),
+    );
+}
+
+function renderSeries(r: DmSeriesResult, format: string): string | Iterable<string> {
+  // JSON and CSV in pieces: 10⁶ points never become one string
+  if (format === 'json') return jsonChunks(r);
+  if (format === 'csv') return seriesCsvChunks(r);
   let text = `constant ${r.constant.name}${r.solar ? ` · solar wind n0 = ${r.solar.n0_cm3} cm⁻³ subtracted` : ''}\n`;
   text += table(
     ['source', 'kind', 'points', 'unconstr.', 'reference DM', 'GP amplitude', 'GP length (d)'],
@@ -350,11 +474,38 @@ function renderSeries(r: DmSeriesResult, format: string): string {
   return text;
 }
 
+/**
+ * `dm fit`: as JSON or CSV, each visit is written to a temporary file as it is fitted and the
+ * output streamed from there, so memory holds the arrival times but not the visits (10⁶ visits
+ * of a 10⁷-row table would take more than the table). The terminal table needs them all.
+ */
 export async function runFitCommand(file: string, o: FitCliOptions): Promise<void> {
-  const r = await runDmFit(file, o);
-  await writeOutput(o.out, renderFit(r, formatOf(o)));
-  if (r.summary.n_warnings) note(o, `${r.summary.n_warnings} warning(s); ${CAUTION}`);
-  exitForFit(r, o.strict);
+  const format = formatOf(o);
+  if (format !== 'json' && format !== 'csv') {
+    const r = await runDmFit(file, o);
+    await writeOutput(o.out, renderFit(r, format));
+    if (r.summary.n_warnings) note(o, `${r.summary.n_warnings} warning(s); ${CAUTION}`);
+    exitForFit(r, o.strict);
+    return;
+  }
+  const spill = new LineSpill();
+  try {
+    let chromatic = false;
+    const head = await fitEachVisit(file, o, (v) => {
+      if (v.tau_ref_us !== undefined) chromatic = true;
+      spill.push(format === 'json' ? JSON.stringify(v) : csvCellsJson(v));
+    });
+    await writeOutput(
+      o.out,
+      format === 'json'
+        ? fitJsonChunks(head, spill.lines())
+        : fitCsvChunks(chromatic, spill.lines()),
+    );
+    if (head.summary.n_warnings) note(o, `${head.summary.n_warnings} warning(s); ${CAUTION}`);
+    exitForFit(head, o.strict);
+  } finally {
+    spill.remove();
+  }
 }
 
 export async function runSeriesCommand(file: string, o: SeriesCliOptions): Promise<void> {

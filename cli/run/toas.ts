@@ -8,7 +8,7 @@ import { delayToInfinityS } from '../../shared/physics/dispersion.js';
 import type { ToaRow } from '../../shared/formats/toas.js';
 import { note, withProgress, type CommonOptions } from '../common.js';
 import { checkFailed, usageError } from '../errors.js';
-import { streamToas } from '../io/read-toas.js';
+import { streamToas, toaLayout } from '../io/read-toas.js';
 import { openOutput } from '../io/output.js';
 
 export interface CorrectOptions extends CommonOptions {
@@ -55,11 +55,42 @@ function jsonRow(
   return text.replace('"\\u0000mjd"', String(raw.mjd));
 }
 
+/** A CSV field csv-stringify (default options) would quote. */
+const NEEDS_QUOTES = /[",\r\n]/;
+
+/**
+ * One CSV record as csv-stringify writes it, without its line break: plain fields joined,
+ * csv-stringify itself when a field needs quotes.
+ */
+function csvRecord(fields: string[]): string {
+  for (let i = 0; i < fields.length; i++)
+    if (NEEDS_QUOTES.test(fields[i])) return stringify([fields]).slice(0, -1);
+  return fields.join(',');
+}
+
+/**
+ * `String(Number(x.toPrecision(12)))`, the text of x rounded to 12 significant digits, made
+ * quicker: in fixed notation that text is toPrecision's own less its trailing zeros (a decimal
+ * of at most 12 digits is the shortest text of the double nearest it, and both notations are
+ * fixed in toPrecision's fixed range); exponent notation takes the long way.
+ */
+export function text12(x: number): string {
+  const t = x.toPrecision(12);
+  if (t.indexOf('e') >= 0 || t.indexOf('.') < 0) return String(Number(t));
+  let end = t.length;
+  while (t.charCodeAt(end - 1) === 48 /* 0 */) end--;
+  if (t.charCodeAt(end - 1) === 46 /* . */) end--;
+  const r = t.slice(0, end);
+  return r === '-0' ? '0' : r;
+}
+
 /**
  * Corrected arrival times: every input column unchanged, plus dm_correction_us = −K·ΔDM(t)/ν²
  * (µs, the amount added), the corrected epoch as exact decimal text, and for residual tables
  * the corrected residual. K is the series' own constant, so K·ΔDM is the delay that was measured.
- * Two passes: the first validates every row and the series coverage, so bad input writes nothing.
+ * Bad input writes nothing: written to a file (--out), one pass into the temporary file that
+ * only a complete run renames into place; written to stdout, two passes, the first validating
+ * every row and the series coverage before anything is written.
  */
 export async function runCorrect(file: string, o: CorrectOptions): Promise<void> {
   if (o.format || o.json)
@@ -86,52 +117,86 @@ export async function runCorrect(file: string, o: CorrectOptions): Promise<void>
     }
     return -delayToInfinityS(k, d.ddm, row.freqMhz) * 1e6;
   };
-  const first = await withProgress(o, `checking ${file}`, () =>
-    streamToas(file, (row) => void correctionUs(row)),
-  );
-  if (outside && !o.extrapolate) {
-    throw checkFailed(
+  const outsideFailure = () =>
+    checkFailed(
       `${file}: ${outside} arrival time(s) lie outside the series (first: row ${firstOutside}); pass --extrapolate to hold the end values`,
     );
+  const toFile = o.out !== undefined && o.out !== '-';
+  if (!toFile) {
+    await withProgress(o, `checking ${file}`, () =>
+      streamToas(file, (row) => void correctionUs(row)),
+    );
+    if (outside && !o.extrapolate) throw outsideFailure();
+    outside = 0;
+    firstOutside = undefined;
   }
-  const nOutside = outside;
+  const layout = toaLayout(file);
   const out = openOutput(o.out);
   try {
     let n = 0;
-    await streamToas(file, async (row, raw, header, mjdNumber) => {
-      const corr = correctionUs(row);
-      const extra: Record<string, string | number> = {
-        dm_correction_us: Number(corr.toPrecision(12)),
-        mjd_corrected: formatMjd(
+    // rows are gathered into pieces of ~128 kB: one write (and one wait) per piece, and the
+    // text waiting to be written stays young (cheap to collect)
+    let pending: string[] = [];
+    let pendingChars = 0;
+    const flush = () => {
+      const text = pending.join('');
+      pending = [];
+      pendingChars = 0;
+      return out.write(text);
+    };
+    await withProgress(o, `correcting ${file}`, () =>
+      streamToas(file, (row, raw, header, mjdNumber) => {
+        const corr = correctionUs(row);
+        const mjdCorrected = formatMjd(
           addSeconds(row.epoch, corr * 1e-6),
           Math.max(mjdDecimals(row.mjdText), 18),
-        ),
-      };
-      if (row.residualUs !== undefined)
-        extra.residual_corrected_us = Number((row.residualUs + corr).toPrecision(12));
-      const added = ADDED_COLUMNS.filter((c) => c in extra);
-      let chunk: string;
-      if (Array.isArray(raw)) {
-        chunk =
-          (n === 0 ? stringify([[...header.columns, ...added]]) : '') +
-          stringify([[...raw, ...added.map((c) => String(extra[c]))]]);
-      } else if (first.layout === 'ndjson') {
-        chunk = jsonRow(raw, extra, mjdNumber) + '\n';
-      } else {
-        chunk = (n === 0 ? '[\n  ' : ',\n  ') + jsonRow(raw, extra, mjdNumber);
-      }
-      n++;
-      await out.write(chunk);
-    });
-    if (first.layout === 'json') await out.write('\n]\n');
+        );
+        const residual = row.residualUs;
+        let chunk: string;
+        if (Array.isArray(raw)) {
+          // the added values are numbers and digits, never quoted: appended as text
+          chunk =
+            (n === 0
+              ? csvRecord([
+                  ...header.columns,
+                  ...ADDED_COLUMNS.slice(0, residual === undefined ? 2 : 3),
+                ]) + '\n'
+              : '') +
+            csvRecord(raw) +
+            ',' +
+            text12(corr) +
+            ',' +
+            mjdCorrected +
+            (residual === undefined ? '\n' : ',' + text12(residual + corr) + '\n');
+        } else {
+          const extra: Record<string, string | number> = {
+            dm_correction_us: Number(corr.toPrecision(12)),
+            mjd_corrected: mjdCorrected,
+          };
+          if (residual !== undefined)
+            extra.residual_corrected_us = Number((residual + corr).toPrecision(12));
+          chunk =
+            layout === 'ndjson'
+              ? jsonRow(raw, extra, mjdNumber) + '\n'
+              : (n === 0 ? '[\n  ' : ',\n  ') + jsonRow(raw, extra, mjdNumber);
+        }
+        n++;
+        pending.push(chunk);
+        pendingChars += chunk.length;
+        if (pendingChars >= 1 << 17) return flush();
+      }),
+    );
+    if (pending.length) await flush();
+    if (layout === 'json') await out.write('\n]\n');
+    if (outside && !o.extrapolate) throw outsideFailure();
     await out.commit();
   } catch (e) {
     out.abort();
     throw e;
   }
-  if (nOutside)
+  if (outside)
     note(
       o,
-      `${nOutside} arrival time(s) outside the series were corrected with the end values (--extrapolate)`,
+      `${outside} arrival time(s) outside the series were corrected with the end values (--extrapolate)`,
     );
 }

@@ -158,9 +158,25 @@ export function chromaticFit(
         }
       },
     });
+    // With no scattering delay (τ = 0) α has no effect on the model: its Jacobian column is zero,
+    // the covariance singular and every error undefined. The α-free model is then not a model.
+    const usable =
+      !free.singular &&
+      [dmColumn * p2 + dmColumn, p0 * p2 + p0, p1 * p2 + p1].every((i) => {
+        const v = free!.formalCov[i];
+        return v >= 0 && Number.isFinite(v);
+      });
+    if (!usable) {
+      warnings.push(
+        'α is not constrained (the scattering term vanishes or trades off exactly with the others): α-free model skipped',
+      );
+      free = undefined;
+    }
+  } else {
+    warnings.push(`too few arrival times (${m}) to fit α as well: α-free model skipped`);
+  }
+  if (free) {
     // lmFit scales errors by χ²_red; report the formal ones like the linear fits do
-    const red = free.dof > 0 ? free.chi2 / free.dof : 1;
-    const unscale = red > 0 ? 1 / Math.sqrt(red) : 1;
     models.push({
       ...score(
         'alpha_free',
@@ -168,7 +184,7 @@ export function chromaticFit(
         free.chi2,
         m,
         free.params[dmColumn],
-        free.errors[dmColumn] * unscale,
+        Math.sqrt(free.formalCov[dmColumn * p2 + dmColumn]),
       ),
       alpha: free.params[p1],
       tau_ref_us: free.params[p0],
@@ -177,24 +193,21 @@ export function chromaticFit(
       warnings.push(
         `α ran to the edge of 0.5–8 (${free.params[p1].toFixed(2)}): the scattering term is not constrained`,
       );
-  } else {
-    warnings.push(`too few arrival times (${m}) to fit α as well: α-free model skipped`);
   }
   const preferred = models.reduce((a, b) => (b.bic < a.bic ? b : a)).name;
   let chosen: ChromaticResult['chosen'];
   if (mode === 'free' && free) {
-    const red = free.dof > 0 ? free.chi2 / free.dof : 1;
-    const k = red > 0 ? 1 / red : 1; // back to formal covariance
+    const cov = free.formalCov; // formal, like the linear fits
     chosen = {
       dm: free.params[dmColumn],
-      dmErr: Math.sqrt(free.cov[dmColumn * p2 + dmColumn] * k),
+      dmErr: Math.sqrt(cov[dmColumn * p2 + dmColumn]),
       chi2: free.chi2,
       dof: free.dof,
       tauRefUs: free.params[p0],
-      tauRefErrUs: Math.sqrt(free.cov[p0 * p2 + p0] * k),
+      tauRefErrUs: Math.sqrt(cov[p0 * p2 + p0]),
       alpha: free.params[p1],
-      alphaErr: Math.sqrt(free.cov[p1 * p2 + p1] * k),
-      dmTauCov: free.cov[dmColumn * p2 + p0] * k,
+      alphaErr: Math.sqrt(cov[p1 * p2 + p1]),
+      dmTauCov: cov[dmColumn * p2 + p0],
       offsets: free.params.slice(0, dmColumn),
       params: free.params.slice(),
     };

@@ -2,7 +2,7 @@ import type { DispersionConstant } from '../physics/constants.js';
 import type { ToaTable } from '../formats/toa-table.js';
 import { InputError } from '../formats/errors.js';
 import { weightedLeastSquares, weightedLine, SingularDesignError, type WlsFit } from './wls.js';
-import { groupVisits, orderBySourceAndTime, type VisitGrouping } from './visits.js';
+import { orderBySourceAndTime, visitBounds, type VisitGrouping } from './visits.js';
 import { addSeconds, diffSeconds, formatMjd } from '../time/mjd.js';
 import { chi2Sf } from '../stats/gamma.js';
 import { chromaticFit, type ModelScore, type ScatterMode } from './chromatic.js';
@@ -70,11 +70,28 @@ export const CHI2_ALARM_P = 1e-3;
 
 /** Fit every visit of every source in the table. */
 export function fitDmVisits(table: ToaTable, opts: DmFitOptions): VisitFit[] {
+  const out: VisitFit[] = [];
+  forEachDmVisit(table, opts, (v) => out.push(v));
+  return out;
+}
+
+/**
+ * Fit every visit of every source, handing each fit to `onVisit` as soon as it is made (in
+ * source, then time order), so a caller can write visits out rather than hold them all.
+ * The table's cached MJD column is let go once the visits are found. Returns the visit count.
+ */
+export function forEachDmVisit(
+  table: ToaTable,
+  opts: DmFitOptions,
+  onVisit: (v: VisitFit) => void,
+): number {
   const order = orderBySourceAndTime(table);
   const fit = table.header.hasDm ? combineWidebandVisit : fitVisit;
-  return groupVisits(table, order, opts.grouping).map(([b, e]) =>
-    fit(table, order.subarray(b, e), opts),
-  );
+  const bounds = visitBounds(table, order, opts.grouping);
+  table.releaseMjdColumn();
+  for (let k = 0; k + 1 < bounds.length; k++)
+    onVisit(fit(table, order.subarray(bounds[k], bounds[k + 1]), opts));
+  return Math.max(0, bounds.length - 1);
 }
 
 /**

@@ -34,6 +34,8 @@ export interface LmResult {
   errors: number[];
   /** covariance scaled by χ²_red, row-major p × p */
   cov: number[];
+  /** formal covariance (JᵀWJ)⁻¹, not scaled by χ²_red (still defined when χ² is 0) */
+  formalCov: number[];
   chi2: number;
   dof: number;
   iterations: number;
@@ -154,13 +156,17 @@ export function lmFit(problem: LmProblem, { maxSteps = 200, tolerance = 1e-10 } 
   const dof = n - m;
   const chi2Scale = dof > 0 ? chi2 / dof : 1;
   const cov = new Array<number>(p * p).fill(0);
+  const formalCov = new Array<number>(p * p).fill(0);
   let singular = false;
   try {
     const inv = m > 0 ? inverse(jtj) : new Matrix(0, 0);
     for (let a = 0; a < m; a++)
-      for (let b = 0; b < m; b++) cov[free[a] * p + free[b]] = inv.get(a, b) * chi2Scale;
+      for (let b = 0; b < m; b++) {
+        formalCov[free[a] * p + free[b]] = inv.get(a, b);
+        cov[free[a] * p + free[b]] = inv.get(a, b) * chi2Scale;
+      }
   } catch {
-    for (const j of free) cov[j * p + j] = NaN;
+    for (const j of free) cov[j * p + j] = formalCov[j * p + j] = NaN;
   }
   for (const j of free) if (!(cov[j * p + j] >= 0)) singular = true;
   const errors = Array.from({ length: p }, (_, j) => Math.sqrt(cov[j * p + j]));
@@ -170,5 +176,5 @@ export function lmFit(problem: LmProblem, { maxSteps = 200, tolerance = 1e-10 } 
   const atBound = params.map(
     (v, j) => free.includes(j) && (near(v, problem.min[j], j) || near(v, problem.max[j], j)),
   );
-  return { params, errors, cov, chi2, dof, iterations, atBound, singular, converged };
+  return { params, errors, cov, formalCov, chi2, dof, iterations, atBound, singular, converged };
 }

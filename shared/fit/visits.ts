@@ -31,28 +31,21 @@ export function orderBySourceAndTime(t: ToaTable): Uint32Array {
 /**
  * Split rows into visits: a new visit starts at a new source, or when the time since the
  * previous arrival time exceeds the gap, or (window mode) when the fixed-width window
- * [start + k·w, start + (k+1)·w) changes. Returns [begin, end) ranges into `order`.
+ * [start + k·w, start + (k+1)·w) changes. Returns the visits' boundaries as positions in
+ * `order`: visit k is [bounds[k], bounds[k + 1]) (one number per visit, not a pair of arrays).
  */
-export function groupVisits(
-  t: ToaTable,
-  order: Uint32Array,
-  grouping: VisitGrouping,
-): Array<[number, number]> {
-  const out: Array<[number, number]> = [];
+export function visitBounds(t: ToaTable, order: Uint32Array, grouping: VisitGrouping): number[] {
   const mjd = t.mjdColumn();
   const n = order.length;
-  if (n === 0) return out;
-  let begin = 0;
+  if (n === 0) return [];
+  const out: number[] = [0];
   // one loop per kind, so the per-row test is not re-decided for every row
   if (grouping.kind === 'gap') {
     const gap = grouping.gapDays;
     for (let k = 1; k < n; k++) {
       const a = order[k - 1];
       const b = order[k];
-      if (t.sourceId(a) !== t.sourceId(b) || mjd[b] - mjd[a] > gap) {
-        out.push([begin, k]);
-        begin = k;
-      }
+      if (t.sourceId(a) !== t.sourceId(b) || mjd[b] - mjd[a] > gap) out.push(k);
     }
   } else {
     const { startMjd, windowDays } = grouping;
@@ -60,12 +53,21 @@ export function groupVisits(
     for (let k = 1; k < n; k++) {
       const a = order[k - 1];
       const b = order[k];
-      if (t.sourceId(a) !== t.sourceId(b) || windowOf(a) !== windowOf(b)) {
-        out.push([begin, k]);
-        begin = k;
-      }
+      if (t.sourceId(a) !== t.sourceId(b) || windowOf(a) !== windowOf(b)) out.push(k);
     }
   }
-  out.push([begin, n]);
+  out.push(n);
+  return out;
+}
+
+/** The visits of `visitBounds` as [begin, end) ranges into `order`. */
+export function groupVisits(
+  t: ToaTable,
+  order: Uint32Array,
+  grouping: VisitGrouping,
+): Array<[number, number]> {
+  const b = visitBounds(t, order, grouping);
+  const out: Array<[number, number]> = [];
+  for (let k = 0; k + 1 < b.length; k++) out.push([b[k], b[k + 1]]);
   return out;
 }

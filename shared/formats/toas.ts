@@ -1,4 +1,4 @@
-import { InputError } from './errors.js';
+import { InputError, quoteInput } from './errors.js';
 import { parseDecimal } from './numbers.js';
 import { EpochSyntaxError, parseMjd, type Epoch } from '../time/mjd.js';
 
@@ -48,17 +48,26 @@ export interface ToaHeader {
   hasDm: boolean;
 }
 
+/**
+ * The most columns a table may have: the ten Sightline reads and plenty of room for columns it
+ * keeps as they are. A header of 10⁶ names is refused before it is indexed (seconds of work).
+ */
+export const MAX_COLUMNS = 1024;
+
 /** Check a header: required columns present, no duplicates, and a hint for a wrong delimiter. */
 export function checkHeader(columns: string[]): ToaHeader {
+  if (columns.length > MAX_COLUMNS) {
+    throw new InputError(
+      `the header has ${columns.length} columns; an arrival-time table may have at most ${MAX_COLUMNS}`,
+      { line: 1 },
+    );
+  }
   const seen = new Set<string>();
   columns.forEach((c, i) => {
     if (seen.has(c)) {
       throw new InputError(
-        `the header names column "${c}" twice (columns ${columns.indexOf(c) + 1} and ${i + 1})`,
-        {
-          line: 1,
-          column: c,
-        },
+        `the header names column ${quoteInput(c)} twice (columns ${columns.indexOf(c) + 1} and ${i + 1})`,
+        { line: 1, column: c },
       );
     }
     seen.add(c);
@@ -72,7 +81,7 @@ export function checkHeader(columns: string[]): ToaHeader {
     ] as const) {
       if (only.includes(sep)) {
         throw new InputError(
-          `the header is one field containing ${name}s ("${only.slice(0, 60)}"): arrival-time CSV files must be comma-separated`,
+          `the header is one field containing ${name}s (${quoteInput(only, 60)}): arrival-time CSV files must be comma-separated`,
           { line: 1 },
         );
       }
@@ -103,11 +112,26 @@ export function checkHeader(columns: string[]): ToaHeader {
   };
 }
 
-type Field = string | number | boolean | null | undefined;
+type Field = unknown;
 
-function text(v: Field): string {
+/** A JSON value as a message names it (never its whole text: it may be huge or deeply nested). */
+function describeValue(v: unknown): string {
+  if (Array.isArray(v)) return `an array of ${v.length}`;
+  if (typeof v === 'object') return 'an object';
+  if (typeof v === 'number') return String(v);
+  return typeof v === 'boolean' ? String(v) : typeof v;
+}
+
+/**
+ * A field's text: CSV fields are strings; JSON values may be strings or finite numbers (whose
+ * decimal text is used); null or missing is empty. Anything else — arrays (`["60000.1"]`),
+ * objects, booleans — is refused naming the row and column rather than turned into text.
+ */
+function text(v: Field, where: () => { row: number; line?: number; column: string }): string {
   if (v === null || v === undefined) return '';
-  return typeof v === 'string' ? v : String(v);
+  if (typeof v === 'string') return v;
+  if (typeof v === 'number' && Number.isFinite(v)) return String(v);
+  throw new InputError(`expected text or a number, found ${describeValue(v)}`, where());
 }
 
 /**
@@ -126,7 +150,7 @@ export function parseToaRecord(
     ? (column: string) => rec[header.index[column]]
     : (column: string) => rec[column];
   const required = (column: string): string => {
-    const v = text(get(column)).trim();
+    const v = text(get(column), () => at(column)).trim();
     if (v === '') throw new InputError('empty value', at(column));
     return v;
   };
@@ -134,15 +158,21 @@ export function parseToaRecord(
     const raw = required(column);
     const v = parseDecimal(raw);
     if (v === undefined) {
-      throw new InputError(`"${raw.slice(0, 40)}" is not a finite number`, at(column));
+      throw new InputError(`${quoteInput(raw)} is not a finite number`, at(column));
     }
     const problem = check(v);
-    if (problem) throw new InputError(`${raw.slice(0, 40)} ${problem}`, at(column));
+    // number text (digits, sign, point, exponent) needs no quotes, only shortening
+    if (problem)
+      throw new InputError(
+        `${raw.length > 40 ? `${raw.slice(0, 40)}…` : raw} ${problem}`,
+        at(column),
+      );
     return v;
   };
 
   const source = required('source');
-  if (source === 'source' && text(get('mjd')).trim() === 'mjd') {
+  const mjdField = get('mjd');
+  if (source === 'source' && typeof mjdField === 'string' && mjdField.trim() === 'mjd') {
     throw new InputError('this row repeats the header (were two files joined?)', { row, line });
   }
   const mjdText = required('mjd');

@@ -1,7 +1,7 @@
 import type { ProfileSet } from './types.js';
 import { fitProfileBand, type BandFit, type ScatterModelName } from './scatter-fit.js';
 import { fitPowerLaw, type PowerLawFit } from './power-law.js';
-import { expectedTauUs, TAU_DM_SCATTER_DEX } from './empirical.js';
+import { expectedTauUs, TAU_DM_RANGE, TAU_DM_SCATTER_DEX } from './empirical.js';
 import type { ScatterBand, ScatterFitResult } from '../schemas/scatter-fit.js';
 
 export interface ScatterOptions {
@@ -96,8 +96,13 @@ export function analyseScattering(set: ProfileSet, opts: ScatterOptions): Scatte
   }
   const dm = opts.dm ?? set.dm ?? null;
   let expected: ScatterBody['expected'] = null;
-  if (dm !== null && dm > 0) {
-    const tau = expectedTauUs(dm, opts.refFreqMhz);
+  const tauDm = dm === null ? NaN : expectedTauUs(dm, opts.refFreqMhz);
+  if (dm !== null && dm > 0 && !(dm >= TAU_DM_RANGE.min && dm <= TAU_DM_RANGE.max)) {
+    warnings.push(
+      `no τ expected from the τ–DM relation: DM ${dm.toPrecision(4)} is outside the ${TAU_DM_RANGE.min}–${TAU_DM_RANGE.max} pc cm⁻³ it was fitted over`,
+    );
+  } else if (dm !== null && dm > 0 && Number.isFinite(tauDm) && tauDm > 0) {
+    const tau = tauDm;
     expected = {
       relation: 'Bhat et al. 2004 (ApJ 605, 759)',
       dm,

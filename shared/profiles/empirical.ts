@@ -4,6 +4,13 @@
  */
 export const TAU_DM_SCATTER_DEX = 0.6;
 
+/**
+ * DMs the relation is used for. It was fitted to pulsars with DMs from a few to about a thousand
+ * pc cm⁻³ (from memory); its quadratic in log₁₀ DM turns upward below DM ≈ 0.85, and for DM → 0
+ * (or huge DMs) it gives absurd or infinite τ, so outside this range no expectation is given.
+ */
+export const TAU_DM_RANGE = { min: 1, max: 3000 } as const;
+
 export function expectedTauUs(dm: number, freqMhz: number): number {
   const l = Math.log10(dm);
   const logMs = -6.46 + 0.154 * l + 1.07 * l * l - 3.86 * Math.log10(freqMhz / 1000);

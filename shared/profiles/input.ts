@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { InputError, type InputLocation } from '../formats/errors.js';
+import { jsonSyntaxError } from '../formats/json.js';
 import { quoteMjdNumbers } from '../formats/toas.js';
 import { EpochSyntaxError, parseMjd } from '../time/mjd.js';
 import { formatShape, type NpyArray } from './npy.js';
@@ -60,17 +61,15 @@ const NON_FINITE = ['NaN', 'Infinity', '-Infinity'] as const;
  * hold them instead of failing on a syntax error.
  */
 export function parseJsonText(text: string): unknown {
-  const body = quoteMjdNumbers(text.replace(/^\uFEFF/, '')).replace(
-    /"(?:[^"\\]|\\.)*"|-?\b(?:NaN|Infinity)\b/g,
-    (m) => (m[0] === '"' ? m : `"${m}"`),
+  const own = text.replace(/^\uFEFF/, '');
+  const body = quoteMjdNumbers(own).replace(/"(?:[^"\\]|\\.)*"|-?\b(?:NaN|Infinity)\b/g, (m) =>
+    m[0] === '"' ? m : `"${m}"`,
   );
   try {
     return JSON.parse(body);
-  } catch (e) {
-    const message = (e as Error).message;
-    const pos = /position (\d+)/.exec(message);
-    const line = pos ? body.slice(0, Number(pos[1])).split('\n').length : undefined;
-    throw new InputError(`not valid JSON (${message})`, line === undefined ? {} : { line });
+  } catch {
+    // the line and character in the file's own text (the parsed text had numbers quoted)
+    throw jsonSyntaxError(own, {}, { nonFinite: true });
   }
 }
 

@@ -1,4 +1,4 @@
-import { InputError } from '../formats/errors.js';
+import { InputError, quoteInput } from '../formats/errors.js';
 
 /**
  * Reader for NumPy's `.npy` format, written to its published specification (numpy.lib.format,
@@ -28,6 +28,16 @@ export interface NpyArray {
 const MAGIC = [0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59]; // \x93NUMPY
 const SUPPORTED: readonly NpyDescr[] = ['<f4', '<f8', '>f4', '>f8'];
 
+/**
+ * Limits on what a header may claim, each named in its error message. numpy writes headers of
+ * a few hundred bytes and itself refuses to read headers over 10 000 bytes unless told to
+ * (numpy.lib.format `max_header_size`, from memory); arrays have at most 64 axes (NumPy 2's
+ * NPY_MAXDIMS, from memory); the dict literal is two levels deep ({ … (…) }), so 16 is plenty.
+ */
+export const NPY_MAX_HEADER_BYTES = 65_536;
+export const NPY_MAX_AXES = 64;
+const MAX_LITERAL_DEPTH = 16;
+
 const headerError = (reason: string) => new InputError(reason, { column: 'header' });
 
 /** Parse a whole `.npy` file. Throws InputError (column "header" or "data"; no file name). */
@@ -50,6 +60,11 @@ export function readNpy(bytes: Uint8Array): NpyArray {
   const headerStart = 8 + lenSize;
   if (bytes.length < headerStart) throw headerError('the file ends inside the header length');
   const headerLen = major === 1 ? view.getUint16(8, true) : view.getUint32(8, true);
+  if (headerLen > NPY_MAX_HEADER_BYTES) {
+    throw headerError(
+      `the header length says ${headerLen} bytes; Sightline reads .npy headers of at most ${NPY_MAX_HEADER_BYTES} bytes (numpy writes a few hundred)`,
+    );
+  }
   const dataStart = headerStart + headerLen;
   if (bytes.length < dataStart) {
     throw headerError(
@@ -66,7 +81,7 @@ export function readNpy(bytes: Uint8Array): NpyArray {
   const shapeText = formatShape(header.shape);
   if (!Number.isSafeInteger(expected) || present < expected) {
     throw new InputError(
-      `truncated data: shape ${shapeText} of ${header.descr} needs ${expected} bytes after the header, but only ${present} are present`,
+      `truncated data: shape ${shapeText} of ${header.descr} needs ${Number.isFinite(expected) ? expected : 'more than 1e308'} bytes after the header, but only ${present} are present`,
       { column: 'data' },
     );
   }
@@ -77,7 +92,13 @@ export function readNpy(bytes: Uint8Array): NpyArray {
     );
   }
 
-  const raw = decodeFloats(bytes.slice(dataStart), itemSize, header.descr[0] === '<');
+  // a copy in a fresh buffer: aligned for the typed-array view, and never a view into the caller's
+  // bytes (a Node Buffer's slice() is a view, and byte swapping would then change the caller's)
+  const raw = decodeFloats(
+    new Uint8Array(bytes.subarray(dataStart)),
+    itemSize,
+    header.descr[0] === '<',
+  );
   const data = header.fortranOrder && header.shape.length > 1 ? fortranToC(raw, header.shape) : raw;
   return { shape: header.shape, descr: header.descr, fortranOrder: header.fortranOrder, data };
 }
@@ -144,7 +165,11 @@ function fortranToC(src: Float64Array, shape: number[]): Float64Array {
   return out;
 }
 
+/** A shape as Python writes it, `(3,)` or `(2, 3)`; more than 6 axes are shortened. */
 export function formatShape(shape: number[]): string {
+  if (shape.length > 6) {
+    return `(${shape.slice(0, 3).join(', ')}, …, ${shape.slice(-2).join(', ')}) (${shape.length} axes)`;
+  }
   return shape.length === 1 ? `(${shape[0]},)` : `(${shape.join(', ')})`;
 }
 
@@ -199,7 +224,7 @@ function parseHeader(text: string): Header {
   for (const key of dict.keys()) {
     if (!KEYS.includes(key)) {
       throw headerError(
-        `malformed header: unexpected key '${key}' (a .npy header has exactly 'descr', 'fortran_order' and 'shape')`,
+        `malformed header: unexpected key ${quoteInput(key, 40, "'")} (a .npy header has exactly 'descr', 'fortran_order' and 'shape')`,
       );
     }
   }
@@ -219,7 +244,7 @@ function parseHeader(text: string): Header {
   }
   if (!(SUPPORTED as readonly string[]).includes(descr)) {
     throw headerError(
-      `unsupported dtype '${descr}'${dtypeHint(descr)}; Sightline reads float32 or float64 arrays (${SUPPORTED.join(', ')})`,
+      `unsupported dtype ${quoteInput(descr, 40, "'")}${dtypeHint(descr)}; Sightline reads float32 or float64 arrays (${SUPPORTED.join(', ')})`,
     );
   }
 
@@ -233,6 +258,11 @@ function parseHeader(text: string): Header {
   const shapeValue = dict.get('shape')!;
   if (!isTuple(shapeValue)) {
     throw headerError(`malformed header: 'shape' must be a tuple, found ${describe(shapeValue)}`);
+  }
+  if (shapeValue.tuple.length > NPY_MAX_AXES) {
+    throw headerError(
+      `malformed header: 'shape' has ${shapeValue.tuple.length} axes; an array has at most ${NPY_MAX_AXES}`,
+    );
   }
   const shape = shapeValue.tuple.map((d, axis) => {
     if (typeof d !== 'number' || !Number.isInteger(d) || d < 0 || !Number.isSafeInteger(d)) {
@@ -279,7 +309,7 @@ function describe(v: PyValue): string {
   if (v === null) return 'None';
   if (typeof v === 'boolean') return v ? 'True' : 'False';
   if (typeof v === 'number') return String(v);
-  if (typeof v === 'string') return `'${v}'`;
+  if (typeof v === 'string') return quoteInput(v, 40, "'");
   if (Array.isArray(v)) return 'a list';
   if (isTuple(v)) return 'a tuple';
   return 'a dict';
@@ -288,6 +318,8 @@ function describe(v: PyValue): string {
 /** Recursive-descent parser for the Python literals a .npy header may hold. */
 class LiteralParser {
   private pos = 0;
+  /** containers open at pos */
+  private depth = 0;
   constructor(private readonly text: string) {}
 
   parseTop(): PyValue {
@@ -328,9 +360,19 @@ class LiteralParser {
     this.skipSpace();
     const c = this.text[this.pos];
     if (c === undefined) throw this.fail('the header ends too early');
-    if (c === '{') return this.parseDict();
-    if (c === '(') return { tuple: this.parseSequence('(', ')') };
-    if (c === '[') return this.parseSequence('[', ']');
+    if (c === '{' || c === '(' || c === '[') {
+      if (this.depth >= MAX_LITERAL_DEPTH)
+        throw this.fail(`more than ${MAX_LITERAL_DEPTH} nested brackets`);
+      this.depth++;
+      const v: PyValue =
+        c === '{'
+          ? this.parseDict()
+          : c === '('
+            ? { tuple: this.parseSequence('(', ')') }
+            : this.parseSequence('[', ']');
+      this.depth--;
+      return v;
+    }
     if (c === "'" || c === '"') return this.parseString();
     if (/[-+0-9.]/.test(c)) return this.parseNumber();
     const word = /^[A-Za-z_]\w*/.exec(this.text.slice(this.pos))?.[0];
@@ -338,7 +380,11 @@ class LiteralParser {
       this.pos += word.length;
       return word === 'None' ? null : word === 'True';
     }
-    throw this.fail(word ? `unexpected name '${word}'` : `unexpected character '${c}'`);
+    throw this.fail(
+      word
+        ? `unexpected name ${quoteInput(word, 20, "'")}`
+        : `unexpected character ${quoteInput(c, 40, "'")}`,
+    );
   }
 
   private parseDict(): PyDict {
@@ -358,7 +404,7 @@ class LiteralParser {
       }
       if (dict.has(key)) {
         this.pos = keyPos;
-        throw this.fail(`key '${key}' appears twice`);
+        throw this.fail(`key ${quoteInput(key, 20, "'")} appears twice`);
       }
       this.expect(':');
       dict.set(key, this.parseValue());

@@ -2,7 +2,14 @@ import { z } from 'zod';
 import { CONSTANT_NAMES } from '../physics/constants.js';
 
 /** The analyses `sightline batch` runs: the same run functions as the single commands. */
-export const BATCH_ANALYSES = ['dm-fit', 'dm-series', 'scatter-fit', 'scint', 'dm-refine'] as const;
+export const BATCH_ANALYSES = [
+  'dm-fit',
+  'dm-series',
+  'toas-correct',
+  'scatter-fit',
+  'scint',
+  'dm-refine',
+] as const;
 export type BatchAnalysis = (typeof BATCH_ANALYSES)[number];
 
 const positive = z.number().positive();
@@ -39,6 +46,13 @@ export const dmSeriesJobOptionsSchema = z.strictObject({
   /** a file: relative to the manifest's folder */
   positions: path.optional(),
   refDm: finite.optional(),
+});
+
+/** Options of `toas correct`: the series is a file, often another job's result ("{out}/{stem}.dm-series.json"). */
+export const toasCorrectJobOptionsSchema = z.strictObject({
+  series: path,
+  use: z.enum(['auto', 'smooth', 'points']).default('auto'),
+  extrapolate: z.boolean().optional(),
 });
 
 export const scatterFitJobOptionsSchema = z.strictObject({
@@ -88,8 +102,15 @@ export const dmRefineJobOptionsSchema = z.strictObject({
   constant: constant.optional(),
 });
 
-/** Option keys that name files (resolved against the manifest's folder). */
-export const PATH_OPTIONS = ['positions', 'template', 'meta', 'mask', 'tails'] as const;
+/**
+ * Option keys that name files (resolved against the manifest's folder). They may hold the
+ * placeholders {out} (the results folder) and {stem} (the job's input file name without its
+ * extension), so a job can read another job's result; that job then runs first.
+ */
+export const PATH_OPTIONS = ['positions', 'template', 'meta', 'mask', 'tails', 'series'] as const;
+
+/** The placeholders a file option may hold. */
+export const PATH_PLACEHOLDERS = ['out', 'stem'] as const;
 
 /** A job's name becomes a file name: no folders, no leading dot. */
 const jobName = z
@@ -105,6 +126,8 @@ const job = <A extends BatchAnalysis, S extends z.ZodType>(analysis: A, options:
     analysis: z.literal(analysis),
     /** a file or a glob, relative to the manifest's folder */
     input: z.string().min(1),
+    /** files or globs (relative to the manifest's folder) left out of a glob input */
+    exclude: z.union([z.string().min(1), z.array(z.string().min(1)).min(1)]).optional(),
     // no options: the command's defaults (a missing object parses as an empty one)
     options: z.preprocess((v) => v ?? {}, options),
   });
@@ -112,6 +135,7 @@ const job = <A extends BatchAnalysis, S extends z.ZodType>(analysis: A, options:
 export const batchJobSchema = z.discriminatedUnion('analysis', [
   job('dm-fit', dmFitJobOptionsSchema),
   job('dm-series', dmSeriesJobOptionsSchema),
+  job('toas-correct', toasCorrectJobOptionsSchema),
   job('scatter-fit', scatterFitJobOptionsSchema),
   job('scint', scintJobOptionsSchema),
   job('dm-refine', dmRefineJobOptionsSchema),
@@ -138,6 +162,8 @@ export const batchLineSchema = z.strictObject({
   /** with --push: the run the result became, or true when the push is pending */
   run_id: z.string().optional(),
   pending: z.literal(true).optional(),
+  /** with --push: run_id is the run an earlier push of this very result made (nothing sent) */
+  already_pushed: z.literal(true).optional(),
 });
 export type BatchLine = z.infer<typeof batchLineSchema>;
 
@@ -161,5 +187,25 @@ export const pendingPushSchema = z.object({
   /** the result file, relative to OUT */
   result: z.string(),
   error: z.string(),
+  /** the server the push was meant for */
+  server: z.string().optional(),
 });
 export type PendingPush = z.infer<typeof pendingPushSchema>;
+
+/**
+ * OUT/.pushed/<result file>: the runs a result became, per server, so neither a resumed
+ * `batch --push` nor `runs push --pending` sends the same result to the same server twice.
+ */
+export const pushedRecordSchema = z.object({
+  schema: z.literal('sightline/pushed@1'),
+  result: z.string(),
+  runs: z.array(
+    z.object({
+      server: z.string(),
+      run_id: z.string(),
+      /** the SHA-256 of the result file that was sent */
+      result_sha256: z.string(),
+    }),
+  ),
+});
+export type PushedRecord = z.infer<typeof pushedRecordSchema>;

@@ -98,7 +98,25 @@ function unflaggedExtent(
   return { channels, subints: subUsed.reduce((a, b) => a + b, 0) };
 }
 
-export function analyseDynspec(ds: DynSpec, opts: ScintOptions): ScintAnalysis {
+/**
+ * Intensities are in any unit, but their squares must stay within doubles: a spectrum whose
+ * largest |value| lies outside [2⁻²⁰⁰, 2²⁰⁰] (≈ 6e-61 … 1.6e60) is analysed scaled by a power of
+ * two (exact) that brings it near 1; everything measured is a width, a ratio or a position, so
+ * only the pictures' intensities and powers are scaled back.
+ */
+function unitScale(data: Float64Array): number {
+  let max = 0;
+  for (let i = 0; i < data.length; i++) {
+    const a = Math.abs(data[i]);
+    if (a > max) max = a; // flagged (NaN) pixels hold 0 in ds.data
+  }
+  if (max === 0 || (max >= 2 ** -200 && max <= 2 ** 200)) return 1;
+  return 2 ** -Math.round(Math.log2(max));
+}
+
+export function analyseDynspec(input: DynSpec, opts: ScintOptions): ScintAnalysis {
+  const scale = unitScale(input.data);
+  const ds: DynSpec = scale === 1 ? input : { ...input, data: input.data.map((v) => v * scale) };
   const warnings: string[] = [];
   const rfi = flagRfi(ds, {
     fence: opts.fence,
@@ -182,9 +200,15 @@ export function analyseDynspec(ds: DynSpec, opts: ScintOptions): ScintAnalysis {
   const tauUs = dnuD === null ? null : tauFromBandwidthUs(dnuD, opts.c1);
   const tauErrUs = tauUs === null || dnuDErr === null ? null : (tauUs * dnuDErr) / dnuD!;
 
-  const filled = interpolateFlagged(ds, rfi.mask);
-  const secondary = secondarySpectrum(filled, ds.nchan, ds.nsub, ds.dfMhz, ds.dtS);
+  const filledScaled = interpolateFlagged(ds, rfi.mask);
+  const secondary = secondarySpectrum(filledScaled, ds.nchan, ds.nsub, ds.dfMhz, ds.dtS);
   let arc = fitArc(secondary);
+  // the pictures in the input's units: intensity ÷ scale, power (dB) − 20 log₁₀ scale
+  const filled = scale === 1 ? filledScaled : filledScaled.map((v) => v / scale);
+  if (scale !== 1) {
+    const shift = 20 * Math.log10(scale);
+    for (let i = 0; i < secondary.db.length; i++) secondary.db[i] -= shift;
+  }
   if (arc && arc.contrastDb < ARC_MIN_CONTRAST_DB) {
     warnings.push(
       `no clear arc: the best parabola is only ${arc.contrastDb.toFixed(2)} dB above the typical one (at least ${ARC_MIN_CONTRAST_DB} dB needed)`,

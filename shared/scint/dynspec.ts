@@ -28,6 +28,12 @@ export interface DynSpec {
 /** Fewest channels and sub-integrations an analysis needs. */
 export const MIN_CHANNELS = 8;
 export const MIN_SUBINTS = 8;
+/**
+ * The most cells a grid built from long-form rows may span (2²⁴ = 16 777 216, e.g. 4096 channels
+ * × 4096 sub-integrations): rows whose distinct frequencies and times are scattered would
+ * otherwise ask for n² cells from n rows.
+ */
+export const MAX_GRID_CELLS = 2 ** 24;
 /** Relative departure from a uniform grid that is accepted. */
 const GRID_TOLERANCE = 1e-3;
 
@@ -188,6 +194,12 @@ export function dynspecFromRows(
   const ti = new Map(ts.map((t, i) => [t, i]));
   const nchan = fs.length;
   const nsub = ts.length;
+  if (nchan * nsub > MAX_GRID_CELLS) {
+    throw new InputError(
+      `the rows hold ${nchan} distinct frequencies and ${nsub} distinct times, a grid of ${nchan * nsub} cells; a dynamic spectrum may span at most ${MAX_GRID_CELLS} (2^24) cells`,
+      { column: 'freq_mhz' },
+    );
+  }
   const grid = new Float64Array(nchan * nsub).fill(NaN);
   const seen = new Int32Array(nchan * nsub).fill(-1);
   for (let r = 0; r < freq.length; r++) {

@@ -26,12 +26,26 @@ export interface SeriesOptions {
 
 type SeriesBody = Pick<DmSeriesResult, 'sources' | 'points' | 'smooth'>;
 
+/** The fields of a visit fit that a series reads. */
+export type SeriesVisit = Pick<
+  VisitFitJson,
+  | 'source'
+  | 'mjd'
+  | 'mjd_first'
+  | 'mjd_last'
+  | 'status'
+  | 'dm'
+  | 'dm_err_scaled'
+  | 'dm_kind'
+  | 'n_toas'
+>;
+
 /**
  * A DM series per source from per-visit fits: fitted visits only, errors scaled by √χ²_red
  * when it exceeds 1, optional solar-wind subtraction and Gaussian-process smoothing.
  */
-export function buildDmSeries(visits: VisitFitJson[], opts: SeriesOptions): SeriesBody {
-  const bySource = new Map<string, VisitFitJson[]>();
+export function buildDmSeries(visits: SeriesVisit[], opts: SeriesOptions): SeriesBody {
+  const bySource = new Map<string, SeriesVisit[]>();
   for (const v of visits) {
     const list = bySource.get(v.source) ?? [];
     list.push(v);
@@ -162,7 +176,8 @@ export function buildDmSeries(visits: VisitFitJson[], opts: SeriesOptions): Seri
       });
     }
     out.sources.push(entry);
-    out.points.push(...points);
+    // one by one: a spread of 10⁵ points would overflow the call stack
+    for (const p of points) out.points.push(p);
   }
   return out;
 }

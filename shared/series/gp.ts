@@ -68,14 +68,16 @@ function factor(t: number[], y: number[], err: number[], h: GpHyper): Factored |
 export function fitGp(t: number[], y: number[], err: number[]): GpModel {
   const n = t.length;
   if (n < 3) throw new RangeError('a Gaussian-process fit needs at least three points');
-  const span = Math.max(...t) - Math.min(...t);
   const sorted = [...t].sort((a, b) => a - b);
+  const span = sorted[n - 1] - sorted[0]; // no spread of t: it may hold a million points
   let minStep = Infinity;
   for (let i = 1; i < n; i++)
     if (sorted[i] > sorted[i - 1]) minStep = Math.min(minStep, sorted[i] - sorted[i - 1]);
   if (!Number.isFinite(minStep)) minStep = 1;
   const mean = y.reduce((s, v) => s + v, 0) / n;
-  const sd = Math.sqrt(y.reduce((s, v) => s + (v - mean) ** 2, 0) / n) || Math.max(...err);
+  const sd =
+    Math.sqrt(y.reduce((s, v) => s + (v - mean) ** 2, 0) / n) ||
+    err.reduce((a, b) => Math.max(a, b), 0);
   const medErr = [...err].sort((a, b) => a - b)[Math.floor(n / 2)];
   const lMin = Math.max(minStep / 2, 1e-3);
   const lMax = Math.max(span * 5, lMin * 10);

@@ -1,3 +1,5 @@
+import { quoteInput } from '../formats/errors.js';
+
 /**
  * Exact arrival times. A double holds ~16 significant digits, so an MJD near 60000 in one
  * Number is good only to ~1 µs. An Epoch keeps the integer day, whole seconds of the day and a
@@ -54,7 +56,8 @@ export function parseMjd(text: string): Epoch {
     }
   }
   if (intDigits === 0) return syntaxError(text);
-  if (intDigits > 9) throw new EpochSyntaxError(`MJD "${text}" is out of range`);
+  if (intDigits > 9)
+    throw new EpochSyntaxError(`MJD ${quoteInput(text.slice(start, end))} is out of range`);
   const c1 = chunk(text, fracStart, end, 0);
   const c2 = chunk(text, fracStart, end, 8);
   const c3 = chunk(text, fracStart, end, 16);
@@ -66,11 +69,12 @@ export function parseMjd(text: string): Epoch {
   return frac >= 1 ? normalise({ day, sec, frac }) : { day, sec, frac };
 }
 
+/** The error for text that is not a decimal MJD; the text is quoted shortened (≤ 40 characters). */
 function syntaxError(text: string): never {
   const t = text.trim();
-  if (t.startsWith('-') && /^-\d/.test(t)) throw new EpochSyntaxError(`MJD "${text}" is negative`);
+  if (/^-\d/.test(t)) throw new EpochSyntaxError(`MJD ${quoteInput(t)} is negative`);
   throw new EpochSyntaxError(
-    `"${text}" is not a decimal MJD (digits, optional point and fraction)`,
+    `${quoteInput(t)} is not a decimal MJD (digits, optional point and fraction)`,
   );
 }
 

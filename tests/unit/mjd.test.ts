@@ -43,6 +43,26 @@ describe('exact MJD epochs', () => {
       expect(() => parseMjd(bad)).toThrow();
   });
 
+  it('quotes at most 40 characters of bad text, on one line', () => {
+    for (const bad of [
+      '1'.repeat(1 << 20),
+      `6x${'0'.repeat(1 << 20)}`,
+      `-${'5'.repeat(1000)}`,
+      'a\nb',
+    ]) {
+      let message = '';
+      try {
+        parseMjd(bad);
+      } catch (e) {
+        message = (e as Error).message;
+      }
+      expect(message).toMatch(/out of range|not a decimal MJD|negative/);
+      expect(message.length).toBeLessThan(160);
+      expect(message).not.toMatch(/\n/);
+    }
+    expect(() => parseMjd('1'.repeat(50))).toThrow(/"1{40}…" \(50 characters\) is out of range/);
+  });
+
   it('gives an approximate double for grouping', () => {
     expect(toMjdNumber(parseMjd('60000.25'))).toBe(60000.25);
   });

@@ -180,6 +180,20 @@ describe('readNpy: layouts the format allows', () => {
     big.set(bytes, 13);
     expect(Array.from(readNpy(big.subarray(13)).data)).toEqual([3, 4]);
   });
+
+  it('reads a Node Buffer at an unaligned offset, and leaves its bytes as they were', () => {
+    // Buffer#slice is a view, not a copy: the data must still be copied before it is viewed as
+    // float64 (which needs an 8-byte-aligned offset) and before big-endian bytes are swapped
+    for (const descr of ['>f8', '<f8', '>f4']) {
+      const bytes = npy({ descr, shape: [2], values: [3, 4] });
+      const pool = Buffer.alloc(bytes.length + 3);
+      pool.set(bytes, 3);
+      const buf = pool.subarray(3);
+      const before = Buffer.from(buf);
+      expect(Array.from(readNpy(buf).data)).toEqual([3, 4]);
+      expect(buf.equals(before)).toBe(true);
+    }
+  });
 });
 
 describe('readNpy: refuses what it cannot read, and says why', () => {

@@ -408,7 +408,14 @@ describe('readProfiles: files on disk, with their SHA-256', () => {
     );
     const metaPath = write('broken.json', '{\n  "source": "TEST-1",\n  "mjd": 60321.5,,\n}');
     const message = await rejection(readProfiles(path, metaPath));
-    expect(message).toMatch(new RegExp(`^${metaPath}: line 3: not valid JSON \\(`));
+    expect(message).toBe(
+      `${metaPath}: line 3: not valid JSON at character 18 (expected a property name in double quotes, found ',')`,
+    );
+    // an "Unexpected token" error, for which JSON.parse gives no position, gets a line too
+    const tokenPath = write('token.json', '{\n  "source": "TEST-1",\n  "mjd": }\n');
+    expect(await rejection(readProfiles(tokenPath))).toBe(
+      `${tokenPath}: line 3: not valid JSON at character 10 (expected a value, found '}')`,
+    );
   });
 
   it('missing files are I/O errors (ENOENT), not invalid input', async () => {

@@ -2,6 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { fitDmVisits } from '../../shared/fit/dm-fit.js';
 import { InputError } from '../../shared/formats/errors.js';
 import { dispersionConstant } from '../../shared/physics/constants.js';
+import { ToaTable } from '../../shared/formats/toa-table.js';
+import { checkHeader, type ToaRow } from '../../shared/formats/toas.js';
 import { makeTable } from '../helpers/toas.js';
 
 const constant = dispersionConstant('conventional');
@@ -91,5 +93,124 @@ describe('pulse numbers (pulse column)', () => {
     expect(() =>
       makeTable([{ source: 'S', mjd: '60000.1', freq_mhz: 1400, err_us: 1, pulse: 1.5 }]),
     ).toThrow(/row 1: column "pulse": 1.5 is not a whole pulse number/);
+  });
+});
+
+describe('column layout (shared/formats/toa-table.ts)', () => {
+  const required = checkHeader(['source', 'mjd', 'freq_mhz', 'err_us']);
+  const residuals = checkHeader(['source', 'mjd', 'freq_mhz', 'err_us', 'residual_us', 'receiver']);
+  const everything = checkHeader([
+    'source',
+    'mjd',
+    'freq_mhz',
+    'err_us',
+    'residual_us',
+    'receiver',
+    'period_s',
+    'pulse',
+    'dm',
+    'dm_err',
+  ]);
+  const row = (i: number, extra: Partial<ToaRow> = {}): ToaRow => ({
+    row: i + 1,
+    source: `S${i % 3}`,
+    mjdText: `60000.${String(i).padStart(12, '0')}`,
+    epoch: { day: 60000 + (i >> 4), sec: (i * 37) % 86400, frac: (i % 1000) / 1000 + 1e-13 },
+    freqMhz: 700 + i,
+    errUs: 0.5 + i / 1e4,
+    ...extra,
+  });
+
+  it('bytes per row: 38 for the required columns; optional ones only when the header has them', () => {
+    // day, sec int32 · frac, freq, err float64 · row uint32 · source id uint16 = 38 bytes;
+    // residual float64 + receiver id uint16 = 48; period, pulse, dm, dm_err add 8 each = 80
+    for (const [header, perRow] of [
+      [required, 38],
+      [residuals, 48],
+      [everything, 80],
+    ] as const) {
+      const t = new ToaTable(header, 1000);
+      expect(t.allocatedRows).toBe(1000);
+      expect(t.allocatedBytes).toBe(1000 * perRow);
+    }
+  });
+
+  it('every accessor gives back what was pushed, through growth by half and a trim', () => {
+    const t = new ToaTable(everything, 16);
+    const rows: ToaRow[] = [];
+    for (let i = 0; i < 2000; i++) {
+      const r = row(i, {
+        residualUs: -i / 7,
+        receiver: ['low', 'mid', 'high'][i % 3],
+        periodS: 0.001 + i / 1e6,
+        pulse: 2 ** 40 + i,
+        dm: 10 + i / 1e3,
+        dmErr: 1e-3,
+      });
+      rows.push(r);
+      t.push(r);
+    }
+    // 16 → 1024 (the smallest growth) → 1536 → 2304
+    expect(t.allocatedRows).toBe(2304);
+    const check = () => {
+      expect(t.length).toBe(2000);
+      rows.forEach((r, i) => {
+        expect(t.epoch(i)).toEqual(r.epoch);
+        expect(t.mjd(i)).toBe(r.epoch.day + (r.epoch.sec + r.epoch.frac) / 86400);
+        expect(t.mjdColumn()[i]).toBe(t.mjd(i));
+        expect(t.freqMhz(i)).toBe(r.freqMhz);
+        expect(t.errUs(i)).toBe(r.errUs);
+        expect(t.residualUs(i)).toBe(r.residualUs);
+        expect(t.periodS(i)).toBe(r.periodS);
+        expect(t.pulseNumber(i)).toBe(r.pulse);
+        expect(t.dmOf(i)).toBe(r.dm);
+        expect(t.dmErrOf(i)).toBe(r.dmErr);
+        expect(t.row(i)).toBe(r.row);
+        expect(t.sources[t.sourceId(i)]).toBe(r.source);
+        expect(t.receivers[t.receiverId(i)]).toBe(r.receiver);
+      });
+    };
+    check();
+    t.trim();
+    expect(t.allocatedRows).toBe(2000);
+    check();
+    expect(t.mjdDecimals).toBe(12);
+  });
+
+  it('missing optional values are NaN (receiver −1); a column a row brings appears for it alone', () => {
+    const t = new ToaTable(required, 4);
+    t.push(row(0));
+    expect(t.residualUs(0)).toBeNaN();
+    expect(t.periodS(0)).toBeNaN();
+    expect(t.pulseNumber(0)).toBeNaN();
+    expect(t.dmOf(0)).toBeNaN();
+    expect(t.dmErrOf(0)).toBeNaN();
+    expect(t.receiverId(0)).toBe(-1);
+    const before = t.allocatedBytes;
+    t.push(row(1, { residualUs: 2.5, receiver: 'mid' }));
+    expect(t.allocatedBytes).toBe(before + t.allocatedRows * (8 + 2));
+    expect([t.residualUs(0), t.residualUs(1)]).toEqual([NaN, 2.5]);
+    expect([t.receiverId(0), t.receivers[t.receiverId(1)]]).toEqual([-1, 'mid']);
+  });
+
+  it('more than 65 535 sources or receivers widen the id columns without losing any', () => {
+    const n = 70_000;
+    const t = new ToaTable(residuals, n);
+    for (let i = 0; i < n; i++)
+      t.push(row(i, { source: `P${i}`, receiver: `R${n - i}`, residualUs: 0 }));
+    expect(t.sources).toHaveLength(n);
+    expect(t.receivers).toHaveLength(n);
+    for (const i of [0, 65_534, 65_535, 65_536, n - 1]) {
+      expect(t.sources[t.sourceId(i)]).toBe(`P${i}`);
+      expect(t.receivers[t.receiverId(i)]).toBe(`R${n - i}`);
+    }
+  });
+
+  it('whole seconds are stored as integers: a fractional part moves to frac, the same instant', () => {
+    const t = new ToaTable(required, 4);
+    t.push(row(0, { epoch: { day: 60000, sec: 10.25, frac: 0.5 } }));
+    expect(t.epoch(0)).toEqual({ day: 60000, sec: 10, frac: 0.75 });
+    expect(t.mjd(0)).toBe(60000 + 10.75 / 86400);
+    expect(() => t.push(row(1, { epoch: { day: 2 ** 31, sec: 0, frac: 0 } }))).toThrow(RangeError);
   });
 });
