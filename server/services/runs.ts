@@ -290,6 +290,16 @@ export async function reviewRun(
     const problem = staleOrWrongState(run, body.version, ['in_review'], `${body.decision}ed`);
     if (problem) throw problem;
     const approve = body.decision === 'approve';
+    // Approvals of one pulsar take turns: under READ COMMITTED two leads approving two runs of
+    // the same pulsar and kind at once would each miss the other's uncommitted approval, leaving
+    // both approved (seen in the crash test on PostgreSQL). Locking the pulsar's row makes the
+    // second wait, and its statements then see the first one's commit.
+    if (approve && run.pulsarId !== null)
+      await tx
+        .select({ id: pulsars.id })
+        .from(pulsars)
+        .where(eq(pulsars.id, run.pulsarId))
+        .for('update');
     const now = new Date();
     const [updated] = await tx
       .update(runs)

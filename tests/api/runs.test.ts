@@ -169,6 +169,37 @@ describe.each(ENGINES)('correction runs on %s', (engine) => {
     expect([a.status, b.status].sort()).toEqual([201, 409]);
   });
 
+  it('two leads approving two runs of one reference pulsar at once: one approved, one superseded, one baseline', async () => {
+    // common practice for review workflows: the later of two approvals replaces the earlier.
+    // Without serialising approvals per pulsar, PostgreSQL's READ COMMITTED let both stay
+    // approved (seen in tests/api/crash.test.ts); several rounds give the race its chance.
+    for (let round = 0; round < 6; round++) {
+      const one = await post('ana', '/api/runs', { result: quietFit('SBP-B', 3e-5), submit: true });
+      const two = await post('ana', '/api/runs', { result: quietFit('SBP-B', 4e-5), submit: true });
+      const [a, b] = await Promise.all([
+        post('lead', `/api/runs/${one.body.id}/reviews`, {
+          decision: 'approve',
+          version: one.body.version,
+        }),
+        post('lead2', `/api/runs/${two.body.id}/reviews`, {
+          decision: 'approve',
+          version: two.body.version,
+        }),
+      ]);
+      expect([a.status, b.status]).toEqual([201, 201]);
+      const approved = await get('guest', '/api/runs?pulsar=SBP-B&kind=dm-fit&state=approved');
+      expect(approved.body.items.map((r: { id: string }) => r.id)).toHaveLength(1);
+      const winner = approved.body.items[0].id;
+      expect([one.body.id, two.body.id]).toContain(winner);
+      const baselines = await get('guest', '/api/baselines');
+      const active = baselines.body.items.filter(
+        (x: { pulsar: string; kind: string }) => x.pulsar === 'SBP-B' && x.kind === 'dm-fit',
+      );
+      expect(active).toHaveLength(1);
+      expect(active[0].run_id).toBe(winner);
+    }
+  });
+
   it("approving a reference pulsar's run makes it the baseline and supersedes the previous one", async () => {
     const before = await get('guest', '/api/baselines');
     const old = before.body.items.find(
