@@ -15,6 +15,9 @@ export default defineConfig({
     testTimeout: 60_000,
     hookTimeout: 120_000,
     pool: 'forks',
+    // two test files at a time: Vitest's default (CPUs − 1) is one on a two-core CI machine, and
+    // most files wait on child processes, servers and the database rather than on their own CPU
+    maxWorkers: 2,
     // the JSON report lets .ci/run print a plain "N passed, N failed" closing line
     reporters: ['default', 'json'],
     outputFile: { json: 'dist/test-results.json' },
