@@ -90,6 +90,20 @@ export function expectInputError(e: unknown, file: string): TypedInputError {
   return e;
 }
 
+/**
+ * For parsers of text or bytes in memory (no file to name): `e` must be an InputError whose
+ * message is one line of at most MAX_MESSAGE characters; anything else is rethrown, failing the
+ * property. Returns it for further checks of its location.
+ */
+export function expectBoundedInputError(e: unknown): InputError {
+  if (!(e instanceof InputError)) throw e;
+  if (e.message.length > MAX_MESSAGE)
+    throw new Error(`message of ${e.message.length} characters: ${e.message.slice(0, 200)}…`);
+  if (/[\r\n]/.test(e.message))
+    throw new Error(`message spans lines: ${JSON.stringify(e.message)}`);
+  return e;
+}
+
 export type Outcome<T> = { ok: true; value: T } | { ok: false; error: TypedInputError };
 
 /** Run a reader; a result or a typed input error for `file` passes, anything else fails. */

@@ -3,7 +3,12 @@ import { fitDmVisits } from '../../shared/fit/dm-fit.js';
 import { InputError } from '../../shared/formats/errors.js';
 import { dispersionConstant } from '../../shared/physics/constants.js';
 import { ToaTable } from '../../shared/formats/toa-table.js';
-import { checkHeader, type ToaRow } from '../../shared/formats/toas.js';
+import {
+  checkHeader,
+  OPTIONAL_COLUMNS,
+  REQUIRED_COLUMNS,
+  type ToaRow,
+} from '../../shared/formats/toas.js';
 import { makeTable } from '../helpers/toas.js';
 
 const constant = dispersionConstant('conventional');
@@ -99,18 +104,7 @@ describe('pulse numbers (pulse column)', () => {
 describe('column layout (shared/formats/toa-table.ts)', () => {
   const required = checkHeader(['source', 'mjd', 'freq_mhz', 'err_us']);
   const residuals = checkHeader(['source', 'mjd', 'freq_mhz', 'err_us', 'residual_us', 'receiver']);
-  const everything = checkHeader([
-    'source',
-    'mjd',
-    'freq_mhz',
-    'err_us',
-    'residual_us',
-    'receiver',
-    'period_s',
-    'pulse',
-    'dm',
-    'dm_err',
-  ]);
+  const everything = checkHeader([...REQUIRED_COLUMNS, ...OPTIONAL_COLUMNS]);
   const row = (i: number, extra: Partial<ToaRow> = {}): ToaRow => ({
     row: i + 1,
     source: `S${i % 3}`,
